@@ -1,0 +1,14 @@
+"""Candidate forms: each learns its numbers once and applies them from those numbers alone."""
+
+from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError
+from tui.engine.forms.registry import KINDS, default_candidates
+
+__all__ = [
+    "KINDS",
+    "Candidate",
+    "Kind",
+    "Learned",
+    "Recoding",
+    "RecodingError",
+    "default_candidates",
+]

@@ -1,0 +1,30 @@
+import os
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+REPO = Path(__file__).resolve().parent.parent
+SAMPLE = REPO / "sample_data"
+
+# Deterministic terminals for app tests.
+os.environ.setdefault("TEXTUAL_ANIMATIONS", "none")
+
+
+@pytest.fixture
+def rng() -> np.random.Generator:
+    return np.random.default_rng(20261201)
+
+
+def run_cli(*args: str, cwd: Path | None = None):
+    """Run ``python -m tui`` in a subprocess; returns the CompletedProcess."""
+    import subprocess
+
+    return subprocess.run(
+        [sys.executable, "-m", "tui", *args],
+        capture_output=True,
+        text=True,
+        cwd=cwd,
+        timeout=600,
+    )

@@ -1,0 +1,5 @@
+import sys
+
+from tui.cli.main import main
+
+sys.exit(main())

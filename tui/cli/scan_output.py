@@ -1,0 +1,97 @@
+"""Render ranked scan results as a text table, CSV or JSON."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+from collections.abc import Sequence
+
+from tui.cautions import SHORT_CAUTION
+from tui.engine.scan import ColumnScan
+
+FIELDS = (
+    "column",
+    "n",
+    "missing",
+    "events",
+    "distinct",
+    "score",
+    "df",
+    "p_value",
+    "q_value",
+    "shape",
+    "best_form",
+    "delta_aic",
+    "flags",
+)
+
+
+def as_json(scans: Sequence[ColumnScan]) -> str:
+    return json.dumps([s.as_record() for s in scans], indent=2) + "\n"
+
+
+def as_csv(scans: Sequence[ColumnScan]) -> str:
+    out = io.StringIO()
+    writer = csv.DictWriter(out, fieldnames=FIELDS, lineterminator="\n")
+    writer.writeheader()
+    for s in scans:
+        record = s.as_record()
+        record["flags"] = ";".join(s.flags)
+        writer.writerow({k: "" if v is None else v for k, v in record.items()})
+    return out.getvalue()
+
+
+def _p(value: float | None) -> str:
+    if value is None or not math.isfinite(value):
+        return "-"
+    return "<0.0001" if value < 1e-4 else f"{value:.4f}"
+
+
+def _num(value: float | None, digits: int = 1) -> str:
+    return "-" if value is None or not math.isfinite(value) else f"{value:.{digits}f}"
+
+
+def as_table(scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = ()) -> str:
+    """A fixed-width table, most non-linear first, then the columns not scanned."""
+    header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
+              "best form", "dAIC", "flags")  # fmt: skip
+    rows = [header]
+    for i, s in enumerate(scans, 1):
+        rows.append(
+            (
+                str(i),
+                s.column,
+                str(s.n),
+                str(s.missing),
+                str(s.distinct),
+                _num(s.score),
+                "-" if s.df is None else str(s.df),
+                _p(s.p_value),
+                _p(s.q_value),
+                s.shape or "-",
+                s.best_form or "-",
+                _num(s.delta_aic),
+                ",".join(s.flags) or "-",
+            )
+        )
+    widths = [max(len(r[j]) for r in rows) for j in range(len(header))]
+    right = {0, 2, 3, 4, 5, 6, 7, 8, 11}
+    lines = []
+    for r in rows:
+        cells = [
+            c.rjust(w) if j in right else c.ljust(w) for j, (c, w) in enumerate(zip(r, widths))
+        ]
+        lines.append("  ".join(cells).rstrip())
+    lines.insert(1, "  ".join("-" * w for w in widths))
+    scored = sum(1 for s in scans if s.score is not None)
+    lines.append("")
+    lines.append(
+        f"{len(scans)} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
+        "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
+    )
+    for name, why in skipped:
+        lines.append(f"not scanned: {name} ({why})")
+    lines.append(f"Caution: {SHORT_CAUTION}")
+    return "\n".join(lines) + "\n"

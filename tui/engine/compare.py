@@ -1,0 +1,184 @@
+"""The comparison table of candidate forms for one column."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from tui.engine.counts import ReducedCounts
+from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
+from tui.engine.forms.base import Candidate, Recoding, RecodingError, fit_on_counts
+from tui.engine.forms.registry import default_candidates
+from tui.engine.forms.shift import learn_shift
+
+EVENTS_PER_PARAMETER = 10
+"""Rule of thumb: at least 10 events per estimated parameter (Peduzzi et al. 1996)."""
+
+NOTE_CUT = "data-driven cut point: p-value optimistic"
+NOTE_POWER = "powers chosen from the data: p-value optimistic"
+NOTE_DICHOTOMY = "dichotomising discards information"
+NOTE_FEW_EVENTS = "few events per parameter"
+
+
+@dataclass(frozen=True)
+class FormFit:
+    """One row of the comparison table."""
+
+    label: str
+    """Candidate label with options, e.g. ``spline, 4 knots``."""
+    kind: str
+    """Kind key of the recoding."""
+    recoding: Recoding | None
+    """What was learned; None when learning failed."""
+    df: int
+    """Estimated numbers beyond the intercept (searched ones counted)."""
+    status: str
+    """``ok``, ``separation``, ``not-converged`` or ``failed``."""
+    deviance: float = float("nan")
+    """-2 log-likelihood on the rows."""
+    aic: float = float("nan")
+    """Deviance + 2 (df + 1)."""
+    bic: float = float("nan")
+    """Deviance + ln(rows) (df + 1)."""
+    delta_aic: float = float("nan")
+    """AIC minus the linear form's AIC (negative is better)."""
+    lr_chi2: float | None = None
+    """Likelihood-ratio chi-square against linear, for forms that nest it."""
+    lr_df: int | None = None
+    """Degrees of freedom of that test."""
+    lr_p: float | None = None
+    """p-value of that test."""
+    notes: tuple[str, ...] = ()
+    """Cautions for this row."""
+    fit: LogisticFit | None = None
+    """The fit, for drawing the curve."""
+
+    def log_odds(self, x: np.ndarray) -> np.ndarray:
+        """Fitted log-odds of this form at x (NaN when there is no fit)."""
+        if self.fit is None or self.recoding is None:
+            return np.full(np.shape(x), np.nan)
+        design = np.column_stack([np.ones(np.size(x)), self.recoding.apply(np.asarray(x))])
+        return self.fit.linear_predictor(design)
+
+
+@dataclass(frozen=True)
+class BoxTidwell:
+    """Box-Tidwell check: x ln x added to the linear model (Box & Tidwell 1962)."""
+
+    chi2: float
+    """Likelihood-ratio chi-square of the x ln x term, 1 df."""
+    p_value: float
+    """Its p-value."""
+    power: float
+    """One-step estimate of the power of x: 1 + gamma / beta."""
+    shift: float
+    """Shift added to x first (0 when x > 0 throughout)."""
+
+
+@dataclass(frozen=True)
+class ComparisonTable:
+    """Every candidate fitted to one column."""
+
+    rows: tuple[FormFit, ...]
+    """Candidate rows, linear first."""
+    box_tidwell: BoxTidwell | None
+    """None when it could not be computed."""
+
+    @property
+    def linear(self) -> FormFit:
+        """The linear row."""
+        return self.rows[0]
+
+    def best(self) -> FormFit | None:
+        """Lowest AIC among usable rows."""
+        usable = [r for r in self.rows if r.status == "ok"]
+        return min(usable, key=lambda r: r.aic) if usable else None
+
+    def row(self, label: str) -> FormFit | None:
+        """The row with this label."""
+        return next((r for r in self.rows if r.label == label), None)
+
+
+def fit_candidate(
+    candidate: Candidate, counts: ReducedCounts, linear: FormFit | None = None
+) -> FormFit:
+    """Learn and fit one candidate; a failure is a status, never an exception."""
+    try:
+        learned = candidate.learn(counts)
+        fit = fit_on_counts(learned.recoding, counts)
+    except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
+        return FormFit(candidate.label, candidate.kind, None, 0, "failed", notes=(str(problem),))
+    status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
+    notes: list[str] = []
+    if learned.searched and candidate.kind in ("hinge", "indicator"):
+        notes.append(NOTE_CUT)
+    elif learned.searched:
+        notes.append(NOTE_POWER)
+    if candidate.kind in ("indicator", "bands"):
+        notes.append(NOTE_DICHOTOMY)
+    minority = min(counts.total_events, counts.rows - counts.total_events)
+    if minority < EVENTS_PER_PARAMETER * learned.df:
+        notes.append(NOTE_FEW_EVENTS)
+    if fit.rank_deficient:
+        notes.append("design columns collinear")
+    aic, bic = fit.aic(learned.df), fit.bic(learned.df)
+    lr_chi2 = lr_df = lr_p = None
+    delta = float("nan")
+    if linear is not None and linear.fit is not None:
+        delta = aic - linear.aic
+        if candidate.nests_linear and learned.df > linear.df:
+            lr_df = learned.df - linear.df
+            lr_chi2, lr_p = lr_test(linear.fit, fit, lr_df)
+    elif candidate.kind == "linear":
+        delta = 0.0
+    return FormFit(
+        label=candidate.label,
+        kind=candidate.kind,
+        recoding=learned.recoding,
+        df=learned.df,
+        status=status,
+        deviance=fit.deviance,
+        aic=aic,
+        bic=bic,
+        delta_aic=delta,
+        lr_chi2=lr_chi2,
+        lr_df=lr_df,
+        lr_p=lr_p,
+        notes=tuple(notes),
+        fit=fit,
+    )
+
+
+def box_tidwell(counts: ReducedCounts, linear: LogisticFit | None) -> BoxTidwell | None:
+    """Box-Tidwell on (shifted) x; None without a usable linear fit."""
+    if linear is None or not linear.ok or counts.distinct < 3:
+        return None
+    shift = learn_shift(counts)
+    z = counts.x + shift
+    ones = np.ones(z.size)
+    try:
+        restricted = fit_logistic(np.column_stack([ones, z]), counts.events, counts.trials)
+        full = fit_logistic(np.column_stack([ones, z, z * np.log(z)]), counts.events, counts.trials)
+    except ValueError:
+        return None
+    chi2, p = lr_test(restricted, full, 1)
+    beta = restricted.coef[1]
+    power = 1.0 + full.coef[2] / beta if beta != 0 else float("nan")
+    return BoxTidwell(chi2, p, float(power), shift)
+
+
+def compare_forms(
+    counts: ReducedCounts,
+    candidates: Sequence[Candidate] | None = None,
+    groups: int = 4,
+    knots: int = 4,
+) -> ComparisonTable:
+    """Fit every candidate (linear first) and the Box-Tidwell check."""
+    candidates = list(candidates) if candidates is not None else default_candidates(groups, knots)
+    if candidates[0].kind != "linear":
+        raise ValueError("the first candidate must be linear (the reference)")
+    linear = fit_candidate(candidates[0], counts)
+    rows = [linear] + [fit_candidate(c, counts, linear) for c in candidates[1:]]
+    return ComparisonTable(tuple(rows), box_tidwell(counts, linear.fit))

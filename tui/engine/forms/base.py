@@ -1,0 +1,225 @@
+"""The shape every candidate form follows: learn numbers once, then apply them anywhere.
+
+A *kind* (``Kind`` subclass) knows how to apply plain-number parameters to x, name its
+output columns, describe itself and render SQL. A *candidate* (``Candidate``) learns those
+parameters from reduced training counts, searching when the form has a free cut point or
+power. What the candidate learns is a ``Recoding``: the kind, its parameters and an
+optional clip range. Applying a recoding needs nothing but the recoding.
+"""
+
+from __future__ import annotations
+
+import math
+from abc import ABC, abstractmethod
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any, ClassVar
+
+import numpy as np
+
+from tui.engine.counts import ReducedCounts
+from tui.engine.fitting import LogisticFit, fit_logistic
+
+
+class RecodingError(ValueError):
+    """Parameters that no recoding of this kind can hold (names the field)."""
+
+
+def sql_number(value: float) -> str:
+    """A float literal that round-trips exactly (repr of a Python float)."""
+    if not math.isfinite(value):
+        raise RecodingError(f"non-finite number {value!r} cannot be written as SQL")
+    text = repr(float(value))
+    # Parenthesise negatives so that "x - -1.5" can never read as a "--" comment.
+    return f"({text})" if text.startswith("-") else text
+
+
+class Kind(ABC):
+    """How one kind of recoding applies its learned numbers."""
+
+    name: ClassVar[str]
+    """The kind's key in the recoding log."""
+
+    @abstractmethod
+    def validate(self, params: Mapping[str, Any]) -> None:
+        """Raise RecodingError naming the field when ``params`` are unusable."""
+
+    @abstractmethod
+    def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
+        """Output columns (rows × outputs) for finite x."""
+
+    @abstractmethod
+    def suffixes(self, params: Mapping[str, Any]) -> list[str]:
+        """Suffixes of the output columns, in output order."""
+
+    @abstractmethod
+    def describe(self, params: Mapping[str, Any]) -> str:
+        """A short readable label, e.g. ``spline, 4 knots``."""
+
+    @abstractmethod
+    def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
+        """One SQL expression per output; ``x`` is an expression that is NULL when missing."""
+
+
+def check_number(params: Mapping[str, Any], key: str) -> float:
+    """A finite real number stored under ``key``."""
+    if key not in params:
+        raise RecodingError(f"params.{key} is missing")
+    value = params[key]
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise RecodingError(f"params.{key} must be a number")
+    if not math.isfinite(value):
+        raise RecodingError(f"params.{key} must be finite")
+    return float(value)
+
+
+def check_sorted_numbers(params: Mapping[str, Any], key: str, minimum: int) -> list[float]:
+    """A strictly increasing list of at least ``minimum`` finite numbers under ``key``."""
+    if key not in params:
+        raise RecodingError(f"params.{key} is missing")
+    values = params[key]
+    if not isinstance(values, list | tuple) or len(values) < minimum:
+        raise RecodingError(f"params.{key} must be a list of at least {minimum} numbers")
+    for i, v in enumerate(values):
+        if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v):
+            raise RecodingError(f"params.{key}[{i}] must be a finite number")
+    if any(b <= a for a, b in zip(values, values[1:], strict=False)):
+        raise RecodingError(f"params.{key} must be strictly increasing")
+    return [float(v) for v in values]
+
+
+def check_shift(params: Mapping[str, Any]) -> float:
+    """The shift of log and power forms: finite and not negative."""
+    shift = check_number(params, "shift")
+    if shift < 0:
+        raise RecodingError("params.shift must not be negative")
+    return shift
+
+
+@dataclass(frozen=True)
+class Recoding:
+    """A learned recoding: everything needed to apply it, as plain numbers."""
+
+    kind: str
+    """Kind key (see ``KINDS``)."""
+    params: Mapping[str, Any] = field(default_factory=dict)
+    """Learned numbers (knots, shift, cut, edges, powers)."""
+    clip: tuple[float, float] | None = None
+    """When set, x is first limited to [lo, hi]."""
+
+    @property
+    def spec(self) -> Kind:
+        """The kind that applies these numbers."""
+        from tui.engine.forms.registry import KINDS
+
+        return KINDS[self.kind]
+
+    def validate(self) -> None:
+        """Raise RecodingError when the numbers are unusable."""
+        self.spec.validate(self.params)
+        if self.clip is not None:
+            lo, hi = self.clip
+            if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi:
+                raise RecodingError("clip must be two finite numbers, low ≤ high")
+
+    def apply(self, x: np.ndarray) -> np.ndarray:
+        """Output columns (rows × outputs); a missing x gives missing outputs."""
+        x = np.asarray(x, dtype=float)
+        present = np.isfinite(x)
+        out = np.full((x.size, len(self.suffixes())), np.nan)
+        xv = x[present]
+        if self.clip is not None:
+            xv = np.clip(xv, self.clip[0], self.clip[1])
+        if xv.size:
+            with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+                out[present] = self.spec.apply(self.params, xv)
+        return out
+
+    def suffixes(self) -> list[str]:
+        """Suffixes of the output columns."""
+        return self.spec.suffixes(self.params)
+
+    def outputs(self, column: str) -> list[str]:
+        """Names of the output columns for source ``column``: ``<column>__<suffix>``."""
+        return [f"{column}__{s}" for s in self.suffixes()]
+
+    def describe(self) -> str:
+        """Readable label."""
+        text = self.spec.describe(self.params)
+        if self.clip is not None:
+            text += f", clipped to [{self.clip[0]:.6g}, {self.clip[1]:.6g}]"
+        return text
+
+    def sql(self, x: str, dialect: str = "duckdb") -> list[str]:
+        """One SQL expression per output, NULL when x is NULL."""
+        raw = x
+        if self.clip is not None:
+            lo, hi = sql_number(self.clip[0]), sql_number(self.clip[1])
+            x = f"LEAST(GREATEST({x}, {lo}), {hi})"
+        # GREATEST and LEAST skip NULLs in most databases, so guard every output.
+        return [
+            f"CASE WHEN {raw} IS NULL THEN NULL ELSE {expr} END"
+            for expr in self.spec.sql(self.params, x, dialect)
+        ]
+
+
+@dataclass(frozen=True)
+class Learned:
+    """What a candidate learned: the recoding and the df it spent learning it."""
+
+    recoding: Recoding
+    """The learned recoding."""
+    df: int
+    """Estimated numbers beyond the intercept, searched cut points and powers included."""
+    searched: bool = False
+    """A cut point or power was chosen from the data (p-values optimistic)."""
+
+
+class Candidate(ABC):
+    """A candidate form with its options; learns a recoding from training counts."""
+
+    kind: ClassVar[str]
+    nests_linear: ClassVar[bool] = False
+    """Linear is a special case of this form, so a likelihood-ratio test applies."""
+
+    @property
+    @abstractmethod
+    def label(self) -> str:
+        """Readable name with options, e.g. ``spline, 4 knots``."""
+
+    @abstractmethod
+    def learn(self, counts: ReducedCounts) -> Learned:
+        """Learn the numbers from training counts. Raises RecodingError when impossible."""
+
+
+def design_matrix(recoding: Recoding, x: np.ndarray) -> np.ndarray:
+    """Intercept column plus the recoding's outputs for finite x."""
+    basis = recoding.apply(x)
+    return np.column_stack([np.ones(basis.shape[0]), basis])
+
+
+def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
+    """Fit intercept + the recoding's outputs to training counts."""
+    design = design_matrix(recoding, counts.x)
+    if not np.all(np.isfinite(design)):
+        raise RecodingError("the form gives non-finite values on the training data")
+    return fit_logistic(design, counts.events, counts.trials)
+
+
+def search(recodings: list[Recoding], counts: ReducedCounts) -> Recoding:
+    """The recoding with the highest likelihood on the counts (first wins ties).
+
+    Separated or non-converged members lose to any usable one.
+    """
+    best: tuple[bool, float, Recoding] | None = None
+    for rec in recodings:
+        try:
+            fit = fit_on_counts(rec, counts)
+        except RecodingError:
+            continue
+        key = (fit.ok, fit.llf)
+        if best is None or key[0] > best[0] or (key[0] == best[0] and key[1] > best[1] + 1e-9):
+            best = (fit.ok, fit.llf, rec)
+    if best is None:
+        raise RecodingError("no member of the search could be fitted")
+    return best[2]

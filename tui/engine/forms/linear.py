@@ -1,0 +1,42 @@
+"""Linear: x itself (the decision to keep a predictor linear is a recoding too)."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+from tui.engine.counts import ReducedCounts
+from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError
+
+
+class LinearKind(Kind):
+    name = "linear"
+
+    def validate(self, params: Mapping[str, Any]) -> None:
+        if params:
+            raise RecodingError(f"params must be empty for linear, got {sorted(params)}")
+
+    def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
+        return x[:, None]
+
+    def suffixes(self, params: Mapping[str, Any]) -> list[str]:
+        return ["lin"]
+
+    def describe(self, params: Mapping[str, Any]) -> str:
+        return "linear"
+
+    def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
+        return [x]
+
+
+class LinearCandidate(Candidate):
+    kind = "linear"
+
+    @property
+    def label(self) -> str:
+        return "linear"
+
+    def learn(self, counts: ReducedCounts) -> Learned:
+        return Learned(Recoding("linear", {}), df=1)

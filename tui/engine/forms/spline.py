@@ -1,0 +1,109 @@
+"""Restricted (natural) cubic spline with k knots (Stone & Koo 1985; Harrell 2015).
+
+Linear beyond the outer knots. Outputs: x, then k - 2 non-linear columns
+[(x-t_j)+^3 - (x-t_{k-1})+^3 (t_k-t_j)/(t_k-t_{k-1}) + (x-t_k)+^3 (t_{k-1}-t_j)/(t_k-t_{k-1})]
+/ (t_k-t_1)^2, j = 1..k-2. Knots sit at fixed percentiles of x (Harrell 2015, §2.4.6).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+from tui.engine.counts import ReducedCounts
+from tui.engine.forms.base import (
+    Candidate,
+    Kind,
+    Learned,
+    Recoding,
+    RecodingError,
+    check_sorted_numbers,
+    sql_number,
+)
+
+KNOT_PERCENTILES: dict[int, tuple[float, ...]] = {
+    3: (0.10, 0.50, 0.90),
+    4: (0.05, 0.35, 0.65, 0.95),
+    5: (0.05, 0.275, 0.50, 0.725, 0.95),
+    6: (0.05, 0.23, 0.41, 0.59, 0.77, 0.95),
+    7: (0.025, 0.1833, 0.3417, 0.50, 0.6583, 0.8167, 0.975),
+}
+DEFAULT_KNOTS = 4
+
+
+def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
+    """x and the k - 2 restricted cubic columns (rows × (k - 1))."""
+    t = np.asarray(knots, dtype=float)
+    k = t.size
+    norm = (t[-1] - t[0]) ** 2
+    last, penult = t[-1], t[-2]
+    cols = [x]
+    for j in range(k - 2):
+        term = (
+            np.maximum(x - t[j], 0.0) ** 3
+            - np.maximum(x - penult, 0.0) ** 3 * (last - t[j]) / (last - penult)
+            + np.maximum(x - last, 0.0) ** 3 * (penult - t[j]) / (last - penult)
+        )
+        cols.append(term / norm)
+    return np.column_stack(cols)
+
+
+def learn_knots(counts: ReducedCounts, k: int) -> list[float]:
+    """Knots at the tabulated percentiles; fails when fewer than 3 distinct knots result."""
+    if k not in KNOT_PERCENTILES:
+        raise RecodingError(f"a spline takes 3 to 7 knots, not {k}")
+    knots = np.unique(counts.quantile(KNOT_PERCENTILES[k]))
+    if knots.size < 3:
+        raise RecodingError(f"too few distinct values for a {k}-knot spline")
+    return [float(v) for v in knots]
+
+
+class SplineKind(Kind):
+    name = "spline"
+
+    def validate(self, params: Mapping[str, Any]) -> None:
+        knots = check_sorted_numbers(params, "knots", 3)
+        if len(knots) > 7:
+            raise RecodingError("params.knots must hold 3 to 7 knots")
+
+    def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
+        return spline_basis(x, params["knots"])
+
+    def suffixes(self, params: Mapping[str, Any]) -> list[str]:
+        return ["lin"] + [f"rcs{j}" for j in range(1, len(params["knots"]) - 1)]
+
+    def describe(self, params: Mapping[str, Any]) -> str:
+        return f"spline, {len(params['knots'])} knots"
+
+    def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
+        t = [float(v) for v in params["knots"]]
+        last, penult = t[-1], t[-2]
+        norm = sql_number((last - t[0]) ** 2)
+
+        def cube(c: float) -> str:
+            return f"POWER(GREATEST({x} - {sql_number(c)}, 0.0), 3)"
+
+        out = [x]
+        for j in range(len(t) - 2):
+            a = sql_number((last - t[j]) / (last - penult))
+            b = sql_number((penult - t[j]) / (last - penult))
+            out.append(f"(({cube(t[j])} - {cube(penult)} * {a} + {cube(last)} * {b}) / {norm})")
+        return out
+
+
+class SplineCandidate(Candidate):
+    kind = "spline"
+    nests_linear = True
+
+    def __init__(self, knots: int = DEFAULT_KNOTS) -> None:
+        self.knots = knots
+
+    @property
+    def label(self) -> str:
+        return f"spline, {self.knots} knots"
+
+    def learn(self, counts: ReducedCounts) -> Learned:
+        knots = learn_knots(counts, self.knots)
+        return Learned(Recoding("spline", {"knots": knots}), df=len(knots) - 1)

@@ -1,0 +1,220 @@
+"""Triage of one column and ranking of many.
+
+The non-linearity score is the likelihood-ratio chi-square of a restricted cubic spline
+(default 4 knots) against linear, on k - 2 df; q-values across scored columns follow
+Benjamini & Hochberg (1995). The column is reduced to counts once, and every fit uses them.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from tui.engine import flags as F
+from tui.engine.compare import ComparisonTable, compare_forms
+from tui.engine.counts import DEFAULT_MAX_LEVELS, ReducedCounts, reduce_column
+from tui.engine.forms.spline import DEFAULT_KNOTS
+from tui.engine.qvalues import bh_qvalues
+from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
+
+Q_LINEAR = 0.05
+"""Columns whose q-value is at least this are hinted ``linear``."""
+
+
+@dataclass(frozen=True)
+class ScanSettings:
+    """Options of a scan."""
+
+    groups: int = 4
+    """Quantile groups (and bands)."""
+    knots: int = DEFAULT_KNOTS
+    """Knots of the scoring spline."""
+    max_levels: int = DEFAULT_MAX_LEVELS
+    """Distinct values kept exactly before binning."""
+
+
+@dataclass(frozen=True)
+class ColumnScan:
+    """The triage result of one column."""
+
+    column: str
+    """Column name."""
+    rows: int
+    """Rows with an outcome."""
+    n: int
+    """Rows with a finite value."""
+    missing: int
+    """Rows missing or non-finite."""
+    events: int
+    """Events among the n rows."""
+    distinct: int
+    """Distinct finite values."""
+    score: float | None
+    """LR chi-square, spline vs linear; None when not scored."""
+    df: int | None
+    """Degrees of freedom of the score."""
+    p_value: float | None
+    """p-value of the score."""
+    q_value: float | None
+    """Benjamini-Hochberg q-value across scored columns (set by ``rank``)."""
+    shape: str | None
+    """Shape hint, None when not scored."""
+    best_form: str | None
+    """Label of the lowest-AIC candidate."""
+    delta_aic: float | None
+    """AIC of the best candidate minus AIC of linear."""
+    flags: tuple[str, ...]
+    """Warning words (see ``tui.engine.flags``)."""
+    minimum: float | None = None
+    """Smallest finite value."""
+    maximum: float | None = None
+    """Largest finite value."""
+    exact: bool = True
+    """Fits used every distinct value (no binning)."""
+
+    def as_record(self) -> dict[str, object]:
+        """Plain values for JSON/CSV output."""
+
+        def num(v: float | None) -> float | None:
+            return None if v is None or not math.isfinite(v) else float(v)
+
+        return {
+            "column": self.column,
+            "n": self.n,
+            "missing": self.missing,
+            "events": self.events,
+            "distinct": self.distinct,
+            "score": num(self.score),
+            "df": self.df,
+            "p_value": num(self.p_value),
+            "q_value": num(self.q_value),
+            "shape": self.shape,
+            "best_form": self.best_form,
+            "delta_aic": num(self.delta_aic),
+            "flags": list(self.flags),
+        }
+
+
+def _shape_hint(table: ComparisonTable, counts: ReducedCounts, knots: int) -> str:
+    """The spline's shape; a step that a smooth spline blurs shows as a winning cut point."""
+    spline = table.row(f"spline, {knots} knots")
+    if spline is None or spline.fit is None:
+        return LINEAR
+    lo, hi = counts.quantile([0.025, 0.975])
+    grid = np.linspace(lo, hi, 201)
+    shape = curve_shape(grid, spline.log_odds(grid))
+    best = table.best()
+    if shape == U_SHAPE or best is None or best.fit is None:
+        return shape
+    if best.kind == "indicator":
+        return THRESHOLD
+    if best.kind == "hinge":
+        slope_below = best.fit.coef[1]
+        slope_above = slope_below + best.fit.coef[2]
+        if min(abs(slope_below), abs(slope_above)) < 0.15 * max(abs(slope_below), abs(slope_above)):
+            return THRESHOLD
+    return shape
+
+
+def scan_counts(
+    column: str,
+    counts: ReducedCounts,
+    rows: int,
+    nonfinite: int,
+    integer_valued: bool,
+    settings: ScanSettings = ScanSettings(),
+) -> tuple[ColumnScan, ComparisonTable | None]:
+    """Score one column from its reduced counts (q-value left for ``rank``)."""
+    n = int(round(counts.rows))
+    distinct = counts.distinct
+    minimum = float(counts.x[0]) if distinct else None
+    maximum = float(counts.x[-1]) if distinct else None
+    flags = F.profile_flags(rows, n, distinct, nonfinite, integer_valued, minimum)
+    base = ColumnScan(
+        column=column,
+        rows=rows,
+        n=n,
+        missing=rows - n,
+        events=int(round(counts.total_events)),
+        distinct=distinct,
+        score=None,
+        df=None,
+        p_value=None,
+        q_value=None,
+        shape=None,
+        best_form=None,
+        delta_aic=None,
+        flags=tuple(flags),
+        minimum=minimum,
+        maximum=maximum,
+        exact=counts.exact,
+    )
+    if distinct <= 2 or counts.total_events == 0 or counts.total_events == counts.rows:
+        return base, None
+    table = compare_forms(counts, groups=settings.groups, knots=settings.knots)
+    linear = table.linear
+    spline = table.row(f"spline, {settings.knots} knots")
+    if any(r.status == "separation" for r in (linear, spline) if r is not None):
+        flags.append(F.SEPARATION)
+    elif any(r.status == "not-converged" for r in (linear, spline) if r is not None):
+        flags.append(F.NOT_CONVERGED)
+    minority = min(counts.total_events, counts.rows - counts.total_events)
+    if minority < 10 * (settings.knots - 1):
+        flags.append(F.LOW_EVENTS)
+    best = table.best()
+    result = replace(
+        base,
+        flags=tuple(flags),
+        best_form=best.recoding.describe() if best and best.recoding else None,
+        delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
+    )
+    if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
+        return result, table
+    return (
+        replace(
+            result,
+            score=spline.lr_chi2,
+            df=spline.lr_df,
+            p_value=spline.lr_p,
+            shape=_shape_hint(table, counts, settings.knots),
+        ),
+        table,
+    )
+
+
+def scan_column(
+    column: str,
+    x: np.ndarray,
+    y: np.ndarray,
+    settings: ScanSettings = ScanSettings(),
+) -> tuple[ColumnScan, ComparisonTable | None]:
+    """Score one numeric column against a 0/1 outcome (NaN = missing, ±inf flagged)."""
+    x = np.asarray(x, dtype=float)
+    nonfinite = int(np.isinf(x).sum())
+    finite = x[np.isfinite(x)]
+    integer_valued = bool(finite.size) and bool(np.all(np.floor(finite) == finite))
+    counts = reduce_column(x, y, max_levels=settings.max_levels)
+    return scan_counts(column, counts, x.size, nonfinite, integer_valued, settings)
+
+
+def rank(scans: Iterable[ColumnScan]) -> list[ColumnScan]:
+    """Add q-values across scored columns and sort, most non-linear first.
+
+    Columns whose q-value is at least ``Q_LINEAR`` get the hint ``linear``.
+    """
+    scans = list(scans)
+    scored = [i for i, s in enumerate(scans) if s.p_value is not None]
+    q = bh_qvalues([scans[i].p_value for i in scored])  # type: ignore[misc]
+    for i, qv in zip(scored, q, strict=True):
+        shape = LINEAR if qv >= Q_LINEAR else scans[i].shape
+        scans[i] = replace(scans[i], q_value=float(qv), shape=shape)
+
+    def key(s: ColumnScan) -> tuple[int, float, float, str]:
+        if s.p_value is None:
+            return (1, 0.0, 0.0, s.column)
+        return (0, s.p_value, -(s.score or 0.0), s.column)
+
+    return sorted(scans, key=key)

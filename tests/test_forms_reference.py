@@ -111,7 +111,8 @@ def test_repeated_power_gives_x_to_p_and_x_to_p_log_x():
 
 
 def test_shift_for_nonpositive_values(rng):
-    # R6: x - min(x) + delta, delta the smallest positive gap (Royston & Sauerbrei 2008, from memory).
+    # R6: x - min(x) + delta, delta the smallest positive gap between sorted distinct values
+    # (Royston & Sauerbrei 2008, from memory).
     x = np.array([-3.0, -3.0, -1.0, 0.0, 0.5, 2.0])
     shift = learn_shift(_counts(x, rng))
     assert shift == pytest.approx(3.0 + 0.5)

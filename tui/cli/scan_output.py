@@ -81,7 +81,8 @@ def as_table(scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (
     lines = []
     for r in rows:
         cells = [
-            c.rjust(w) if j in right else c.ljust(w) for j, (c, w) in enumerate(zip(r, widths))
+            c.rjust(w) if j in right else c.ljust(w)
+            for j, (c, w) in enumerate(zip(r, widths, strict=True))
         ]
         lines.append("  ".join(cells).rstrip())
     lines.insert(1, "  ".join("-" * w for w in widths))

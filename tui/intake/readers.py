@@ -120,7 +120,7 @@ class _LastTable:
         key = (str(file.resolve()), stat.st_size, stat.st_mtime_ns)
         # Held while loading so two workers asking for the same file parse it only once.
         with self._lock:
-            if True:
+            if self._key != key or self._frame is None:
                 self._key, self._frame = None, None
                 self._frame = load()
                 self._key = key

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import hashlib
 import os
-import subprocess
 import sys
 from decimal import Decimal
 from pathlib import Path
@@ -333,19 +332,3 @@ def test_sav_without_pyreadstat_says_what_to_install(tmp_path: Path, monkeypatch
     monkeypatch.setitem(sys.modules, "pyreadstat", None)  # makes "import pyreadstat" fail
     with pytest.raises(InputProblem, match=r"bendwise\[spss\]"):
         read_table(path)
-
-
-def test_intake_imports_no_screen_libraries() -> None:
-    code = (
-        "import sys, tui.intake\n"
-        "bad = [m for m in ('textual', 'rich', 'plotext') if m in sys.modules]\n"
-        "print(','.join(bad))\n"
-    )
-    done = subprocess.run(
-        [sys.executable, "-c", code],
-        capture_output=True,
-        text=True,
-        check=True,
-        cwd=Path(__file__).resolve().parents[1],
-    )
-    assert done.stdout.strip() == ""

@@ -2,7 +2,6 @@
 
 import pandas as pd
 import pytest
-
 from conftest import SAMPLE, run_cli
 
 COHORT = str(SAMPLE / "surgical_cohort.csv")

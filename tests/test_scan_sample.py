@@ -3,10 +3,13 @@
 import json
 
 import pytest
-
 from conftest import SAMPLE, run_cli
 
 OUTCOME = "wound_infection_30d"
+REQUIRED_KEYS = {
+    "column", "n", "missing", "events", "distinct", "score", "df",
+    "p_value", "q_value", "shape", "best_form", "delta_aic", "flags",
+}  # fmt: skip
 NONLINEAR = {"u-shape", "threshold", "log", "saturating", "spike-at-zero"}
 
 
@@ -29,8 +32,7 @@ def test_every_numeric_column_but_the_outcome_is_listed(scan_json, truth):
     numeric = {c for c, t in truth.items() if t["shape"] != "text"} - {OUTCOME}
     assert listed == numeric
     for record in scan_json:
-        assert set(record) >= {"column", "n", "missing", "events", "distinct", "score", "df",
-                               "p_value", "q_value", "shape", "best_form", "delta_aic", "flags"}  # fmt: skip
+        assert set(record) >= REQUIRED_KEYS
 
 
 def test_planted_bends_rank_first_with_small_q(scan_json, truth):

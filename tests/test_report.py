@@ -1,0 +1,139 @@
+"""``bendwise report``: golden files, the small-cell rule, HTML safety and bad input."""
+
+import os
+import re
+from datetime import UTC, datetime
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from conftest import SAMPLE, run_cli
+
+from tui import recodings
+from tui.engine.counts import reduce_column
+from tui.engine.forms import Recoding
+from tui.engine.forms.spline import SplineCandidate
+from tui.intake.dataset import file_sha256, open_dataset
+from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
+from tui.report import build_report, render_html, render_markdown
+
+GOLDEN = Path(__file__).parent / "golden"
+COHORT = SAMPLE / "surgical_cohort.csv"
+FIXED_NOW = datetime(2026, 1, 15, 9, 30, tzinfo=UTC)
+DATED = re.compile(r"^(<p>)?Written .* by bendwise .*$", re.M)
+
+
+def _sample_log() -> RecodingLog:
+    data = open_dataset(COHORT, "wound_infection_30d")
+
+    def rng_of(col):
+        v = data.values(col)
+        return (float(np.nanmin(v)), float(np.nanmax(v)))
+
+    counts = reduce_column(data.values("creatinine_umol_l"), data.outcome.y)
+    spline = SplineCandidate(4).learn(counts).recoding
+    stamp = "2026-01-10T08:00:00+00:00"
+    decisions = [
+        Decision.make("bmi", Recoding("quadratic", {}), rng_of("bmi"), "U-shape, lowest near 27",
+                      {"score": 79.6, "groups": 4, "knots": 4}),
+        Decision.make("hba1c_pct", Recoding("indicator", {"cut": 6.5}), rng_of("hba1c_pct"),
+                      "diagnostic threshold", {"groups": 10}),
+        Decision.make("creatinine_umol_l", spline, rng_of("creatinine_umol_l"), "", {"knots": 4}),
+        Decision.make("age_years", Recoding("linear", {}), rng_of("age_years"), "looks linear"),
+    ]  # fmt: skip
+    decisions = [Decision(**{**d.__dict__, "decided_at": stamp}) for d in decisions]
+    return RecodingLog(
+        outcome_column="wound_infection_30d",
+        event=1,
+        source=SourceInfo(COHORT.name, 5000, file_sha256(COHORT)),
+        decisions=tuple(decisions),
+        set_aside=(SetAside("record_id", "row number, not a measurement", stamp),),
+        written_by="bendwise 0.1.0",
+    )
+
+
+@pytest.fixture(scope="module")
+def sample_report():
+    data = open_dataset(COHORT, "wound_infection_30d")
+    return build_report(_sample_log(), data, min_cell=10, now=FIXED_NOW)
+
+
+@pytest.mark.parametrize("name, render", [("report_sample.md", render_markdown),
+                                          ("report_sample.html", render_html)])  # fmt: skip
+def test_golden_report(sample_report, name, render):
+    text = render(sample_report)
+    golden = GOLDEN / name
+    if os.environ.get("BENDWISE_WRITE_GOLDEN"):  # regenerate on purpose, then review the diff
+        golden.write_text(text)
+    assert text == golden.read_text()
+
+
+def test_html_has_no_script_and_no_external_url(sample_report):
+    html = render_html(sample_report).lower()
+    assert "<script" not in html
+    assert "http://" not in html and "https://" not in html and "src=" not in html
+    assert "<svg" in html
+
+
+def test_report_names_every_caution_and_the_rule(sample_report):
+    md = render_markdown(sample_report)
+    for caution in sample_report.cautions:
+        assert caution in md
+    assert "No count below 10 is printed" in md
+    assert "record_id" in md  # set aside, with its note
+
+
+def test_min_cell_hides_a_group_of_seven(tmp_path):
+    # Quartile edges fall at 1.75, 2.5 and 3, so the 7 rows at x = 4 form the top group.
+    rng = np.random.default_rng(3)
+    x = np.repeat([1.0, 2.0, 3.0, 4.0], [100, 100, 193, 7])
+    y = (rng.random(400) < 0.4).astype(int)
+    path = tmp_path / "small.csv"
+    pd.DataFrame({"x": x, "y": y}).to_csv(path, index=False)
+    data = open_dataset(path, "y")
+    log = RecodingLog(
+        "y", 1, SourceInfo(path.name, 400, file_sha256(path)),
+        (Decision.make("x", Recoding("linear", {}), (1.0, 4.0), "", {"groups": 4}),),
+    )  # fmt: skip
+    report = build_report(log, data, min_cell=10)
+    top = report.decisions[0].groups[-1]
+    assert top.n == "<10"
+    assert top.logit is None and top.median is None
+    assert top.events.startswith("<10") or top.events == "withheld"
+    md = render_markdown(report)
+    assert "| 4 | – | <10 |" in md
+
+
+def test_cli_report_is_reproducible_but_for_the_dated_line(tmp_path):
+    log_path = tmp_path / "cohort.recodings.json"
+    recodings.save(_sample_log(), log_path)
+    outs = []
+    for i in range(2):
+        target = tmp_path / f"r{i}.md"
+        done = run_cli("report", str(log_path), "--data", str(COHORT), "--output", str(target))
+        assert done.returncode == 0, done.stderr
+        outs.append(DATED.sub("", target.read_text()))
+    assert outs[0] == outs[1]
+    golden = DATED.sub("", (GOLDEN / "report_sample.md").read_text())
+    assert outs[0] == golden
+
+
+def test_cli_report_data_without_a_logged_column(tmp_path):
+    log_path = tmp_path / "cohort.recodings.json"
+    recodings.save(_sample_log(), log_path)
+    fresh = SAMPLE / "surgical_cohort_fresh.csv"
+    target = tmp_path / "r.html"
+    log = _sample_log()
+    renamed = log.with_decision(Decision.make("albumin_g_l", Recoding("linear", {}), (18.0, 55.0)))
+    recodings.save(renamed, log_path)
+    done = run_cli("report", str(log_path), "--data", str(fresh), "--output", str(target))
+    assert done.returncode == 2
+    assert "albumin_g_l" in done.stderr and "Traceback" not in done.stderr
+    assert len(done.stderr.strip().splitlines()) == 1
+    assert not target.exists()
+
+
+def test_cli_report_needs_md_or_html(tmp_path):
+    done = run_cli("report", "x.json", "--data", str(COHORT), "--output", str(tmp_path / "r.pdf"))
+    assert done.returncode == 2 and ".md or .html" in done.stderr

@@ -1,0 +1,245 @@
+"""Everything a report says, computed once; the renderers only lay it out."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from typing import Any
+
+import numpy as np
+
+from tui import __version__
+from tui.cautions import CAUTIONS
+from tui.engine.compare import FormFit, compare_forms
+from tui.engine.counts import reduce_column
+from tui.engine.groups import logit_groups
+from tui.engine.recorded import fit_recoding
+from tui.engine.runner import scan_columns
+from tui.engine.scan import Q_LINEAR, ScanSettings, rank
+from tui.intake.dataset import Dataset, file_sha256
+from tui.intake.errors import InputProblem
+from tui.recodings.model import Decision, RecodingLog
+from tui.report.cells import cell, group_is_safe
+from tui.report.words import params_in_words
+
+DERIVED_FROM_VALUES = (
+    "Numbers that derive from individual values: knots (quantiles of x), cut points and band "
+    "edges (quantiles or values of x, or entered by hand), the shift of log and power forms "
+    "(the smallest value and the smallest gap between values), and group medians. The log "
+    "also stores each column's training minimum and maximum, which this report never prints."
+)
+
+
+@dataclass(frozen=True)
+class GroupLine:
+    """One quantile group, counts already passed through the small-cell rule."""
+
+    rank: int
+    median: float | None
+    n: str
+    events: str
+    nonevents: str
+    logit: float | None
+    se: float | None
+
+
+@dataclass(frozen=True)
+class FormLine:
+    """One candidate form as compared on the report's data."""
+
+    label: str
+    df: int
+    deviance: float
+    aic: float
+    delta_aic: float
+    lr_p: float | None
+    status: str
+    notes: tuple[str, ...]
+    accepted: bool
+
+
+@dataclass(frozen=True)
+class Curve:
+    """Fitted log-odds on a grid between the first and last group medians."""
+
+    x: tuple[float, ...]
+    linear: tuple[float, ...]
+    accepted: tuple[float, ...]
+
+
+@dataclass(frozen=True)
+class DecisionSection:
+    """Everything said about one decision."""
+
+    column: str
+    form: str
+    in_words: str
+    outputs: tuple[str, ...]
+    note: str
+    decided_at: str
+    evidence: dict[str, Any]
+    forms: tuple[FormLine, ...]
+    groups: tuple[GroupLine, ...]
+    curve: Curve | None
+    withheld_groups: int
+
+
+@dataclass(frozen=True)
+class ReportContent:
+    """A whole report."""
+
+    intro: str
+    fingerprint: dict[str, str]
+    summary: dict[str, str]
+    decisions: tuple[DecisionSection, ...]
+    set_aside: tuple[tuple[str, str], ...]
+    cautions: tuple[str, ...]
+    min_cell: int
+    cell_rule: str
+    derived: str
+    version: str
+    dated_line: str = field(default="")
+
+
+def _finite(v: float | None) -> float | None:
+    return None if v is None or not math.isfinite(v) else float(v)
+
+
+def _form_line(row: FormFit, accepted: bool) -> FormLine:
+    return FormLine(
+        label=row.label,
+        df=row.df,
+        deviance=row.deviance,
+        aic=row.aic,
+        delta_aic=row.delta_aic,
+        lr_p=_finite(row.lr_p),
+        status=row.status,
+        notes=row.notes,
+        accepted=accepted,
+    )
+
+
+def _withheld(count: float, min_cell: int, safe: bool) -> str:
+    """A group's events or non-events: the count, ``<N``, or withheld with the rest."""
+    if safe:
+        return cell(count, min_cell)
+    return f"<{min_cell}" if count < min_cell else "withheld"
+
+
+def _section(data: Dataset, decision: Decision, min_cell: int) -> DecisionSection:
+    x = data.values(decision.column)
+    counts = reduce_column(x, data.outcome.y)
+    groups_n = int(decision.evidence.get("groups", 4))
+    knots_n = int(decision.evidence.get("knots", 4))
+    table = compare_forms(counts, groups=groups_n, knots=knots_n)
+    chosen = fit_recoding(decision.recoding, counts, table.linear, title="accepted (as recorded)")
+    forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
+
+    lines, withheld = [], 0
+    for i, g in enumerate(logit_groups(counts, groups_n), 1):
+        safe = group_is_safe(g.n, g.events, min_cell)
+        withheld += 0 if safe else 1
+        lines.append(
+            GroupLine(
+                rank=i,
+                median=g.median if g.n >= min_cell else None,
+                n=cell(g.n, min_cell),
+                events=_withheld(g.events, min_cell, safe),
+                nonevents=_withheld(g.n - g.events, min_cell, safe),
+                logit=g.logit if safe else None,
+                se=g.se if safe else None,
+            )
+        )
+    medians = [g.median for g in lines if g.median is not None]
+    curve = None
+    if len(medians) >= 2 and chosen.fit is not None and table.linear.fit is not None:
+        grid = np.linspace(medians[0], medians[-1], 61)
+        curve = Curve(
+            tuple(float(v) for v in grid),
+            tuple(float(v) for v in table.linear.log_odds(grid)),
+            tuple(float(v) for v in chosen.log_odds(grid)),
+        )
+    return DecisionSection(
+        column=decision.column,
+        form=decision.recoding.describe(),
+        in_words=params_in_words(decision.recoding),
+        outputs=decision.outputs,
+        note=decision.note,
+        decided_at=decision.decided_at,
+        evidence=dict(decision.evidence),
+        forms=tuple(forms),
+        groups=tuple(lines),
+        curve=curve,
+        withheld_groups=withheld,
+    )
+
+
+def build_report(
+    log: RecodingLog, data: Dataset, min_cell: int = 10, now: datetime | None = None
+) -> ReportContent:
+    """Recompute the evidence for every decision in ``log`` from ``data``."""
+    if min_cell < 1:
+        raise InputProblem(f"--min-cell must be at least 1, not {min_cell}")
+    needed = [d.column for d in log.decisions]
+    missing = [c for c in needed if c not in data.frame.columns]
+    if missing:
+        raise InputProblem(
+            f"{data.path.name} lacks column(s) the log recodes: {', '.join(missing)}"
+        )
+    not_numeric = [c for c in needed if c not in data.columns]
+    if not_numeric:
+        raise InputProblem(f"column(s) not numeric in {data.path.name}: {', '.join(not_numeric)}")
+
+    scans = rank(scan_columns(data.columns, data.raw_values, data.outcome.y, ScanSettings()))
+    flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
+    sha = file_sha256(data.path)
+    adjust = sorted({str(a) for d in log.decisions for a in d.evidence.get("adjusted_for", [])})
+    weights = sorted({str(d.evidence["weight"]) for d in log.decisions if d.evidence.get("weight")})
+    y = data.outcome
+    fingerprint = {
+        "file": data.path.name,
+        "rows with an outcome": str(len(data.frame)),
+        "rows dropped for a missing outcome": str(y.dropped_missing),
+        "sha256": sha,
+        "same file as the log's training data": "yes" if sha == log.source.sha256 else "no",
+        "outcome": log.outcome_column,
+        "event": str(log.event),
+        "events": cell(y.events, min_cell),
+        "non-events": cell(y.nonevents, min_cell),
+    }
+    summary = {
+        "numeric columns scanned": str(len(scans)),
+        f"columns with q < {Q_LINEAR} (spline against linear)": str(flagged),
+        "columns decided": str(len(log.decisions)),
+        "columns set aside": str(len(log.set_aside)),
+        "adjusted for": ", ".join(adjust) if adjust else "nothing (one column at a time)",
+        "weights": ", ".join(weights) if weights else "none",
+    }
+    intro = (
+        f"Each numeric candidate predictor of '{log.outcome_column}' in {data.path.name} was "
+        "checked for linearity on the log-odds scale: columns were ranked by the "
+        "likelihood-ratio test of a restricted cubic spline against a linear term, with "
+        "Benjamini-Hochberg q-values across columns, and an analyst reviewed the grouped "
+        "empirical logits and a table of candidate forms before recording each decision. "
+        "The evidence below is recomputed from the data named here."
+    )
+    stamp = (now or datetime.now(UTC)).replace(microsecond=0).isoformat()
+    return ReportContent(
+        intro=intro,
+        fingerprint=fingerprint,
+        summary=summary,
+        decisions=tuple(_section(data, d, min_cell) for d in log.decisions),
+        set_aside=tuple((s.column, s.note) for s in log.set_aside),
+        cautions=CAUTIONS,
+        min_cell=min_cell,
+        cell_rule=(
+            f"No count below {min_cell} is printed: such counts show as <{min_cell}. Where a "
+            "group's events or non-events fall below it, the group's rate and empirical logit "
+            "are withheld too (a rate and a group size give the count back). Column minima and "
+            "maxima are not printed."
+        ),
+        derived=DERIVED_FROM_VALUES,
+        version=f"bendwise {__version__}",
+        dated_line=f"Written {stamp} by bendwise {__version__}.",
+    )

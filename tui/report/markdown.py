@@ -1,0 +1,69 @@
+"""The report as Markdown (plots as preformatted text)."""
+
+from __future__ import annotations
+
+from tui.report.content import DecisionSection, ReportContent
+from tui.report.numbers import fmt, fmt_p, fmt_x
+from tui.report.textplot import text_plot
+
+
+def _table(header: list[str], rows: list[list[str]]) -> list[str]:
+    clean = [[c.replace("|", "\\|") for c in r] for r in rows]
+    out = ["| " + " | ".join(header) + " |", "|" + "|".join("---" for _ in header) + "|"]
+    out += ["| " + " | ".join(r) + " |" for r in clean]
+    return out
+
+
+def _decision(d: DecisionSection) -> list[str]:
+    out = [f"### {d.column}", "", f"**Accepted form:** {d.form} — {d.in_words}.", ""]
+    out.append(f"Output columns: {', '.join(f'`{o}`' for o in d.outputs)}. Decided {d.decided_at}.")
+    out.append("")
+    if d.evidence:
+        shown = ", ".join(f"{k} = {v}" for k, v in sorted(d.evidence.items()))
+        out += [f"Evidence recorded at decision time: {shown}.", ""]
+    out.append("Candidate forms on this data (AIC counts searched cut points and powers):")
+    out.append("")
+    rows = [
+        [
+            ("**" + f.label + "**") if f.accepted else f.label,
+            str(f.df),
+            fmt(f.deviance),
+            fmt(f.aic),
+            fmt(f.delta_aic),
+            fmt_p(f.lr_p),
+            f.status,
+            "; ".join(f.notes),
+        ]
+        for f in d.forms
+    ]
+    out += _table(["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit", "notes"], rows)
+    out += ["", "Quantile groups:", ""]
+    grows = [
+        [str(g.rank), fmt_x(g.median), g.n, g.events, g.nonevents, fmt(g.logit, 3), fmt(g.se, 3)]
+        for g in d.groups
+    ]
+    out += _table(["group", "median x", "rows", "events", "non-events", "logit", "SE"], grows)
+    out += ["", "```", text_plot(d.groups, d.curve), "```", ""]
+    out += [f"**Note:** {d.note or '(none recorded)'}", ""]
+    return out
+
+
+def render_markdown(report: ReportContent) -> str:
+    """The whole report as Markdown text."""
+    out = ["# Predictor form decisions", "", report.intro, "", "## Data", ""]
+    out += _table(["item", "value"], [[k, v] for k, v in report.fingerprint.items()])
+    out += ["", "## Scan summary", ""]
+    out += _table(["item", "value"], [[k, v] for k, v in report.summary.items()])
+    out += ["", "## Decisions", ""]
+    if not report.decisions:
+        out += ["No recodings recorded.", ""]
+    for d in report.decisions:
+        out += _decision(d)
+    if report.set_aside:
+        out += ["## Set aside", ""]
+        out += [f"- {c}: {note or '(no note)'}" for c, note in report.set_aside]
+        out.append("")
+    out += ["## Output checking", "", report.cell_rule, "", report.derived, ""]
+    out += ["## Cautions", ""] + [f"- {c}" for c in report.cautions] + [""]
+    out += [report.dated_line, ""]
+    return "\n".join(out)

@@ -1,0 +1,100 @@
+"""Shared cases for the recoding-log tests: a log holding every kind, and the sample files.
+
+The numbers are written out by hand (not learned), so the golden files change only when the
+file format or a kind's SQL changes, never when the engine's learning does.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import replace
+from pathlib import Path
+
+from conftest import SAMPLE
+
+from tui import __version__
+from tui.engine.forms import Recoding
+from tui.recodings import Decision, RecodingLog, SetAside, SourceInfo
+
+GOLDEN = Path(__file__).resolve().parent / "golden"
+TRAINING = SAMPLE / "surgical_cohort.csv"
+FRESH = SAMPLE / "surgical_cohort_fresh.csv"
+OUTCOME = "wound_infection_30d"
+UPDATE_GOLDEN = os.environ.get("BENDWISE_UPDATE_GOLDEN") == "1"
+"""Set to 1 to rewrite the golden files after a deliberate change of format or SQL."""
+
+WRITER = f"bendwise {__version__}"
+WHEN = "2026-03-02T09:15:00+00:00"
+
+# (column, recoding, training range) for every kind, repeated powers and clip included.
+EVERY_KIND: list[tuple[str, Recoding, tuple[float, float]]] = [
+    ("age_years", Recoding("linear", {}), (18.0, 95.0)),
+    ("crp_mg_l", Recoding("log", {"shift": 0.0}), (0.2, 246.8)),
+    ("weight_change_kg", Recoding("log", {"shift": 12.0}), (-11.8, 10.2)),
+    ("blood_loss_ml", Recoding("fp1", {"power": 0.5, "shift": 0.0}), (5.0, 3877.0)),
+    ("preop_stay_hours", Recoding("fp1", {"power": 0, "shift": 0.0}), (2.0, 323.0)),
+    ("creatinine_umol_l", Recoding("fp2", {"powers": [-2, -1], "shift": 0.0}), (30.0, 1026.0)),
+    ("glucose_mmol_l", Recoding("fp2", {"powers": [0, 0], "shift": 0.0}), (3.0, 12.0)),
+    ("wbc_10e9_l", Recoding("fp2", {"powers": [0.5, 0.5], "shift": 0.0}), (2.0, 15.0)),
+    ("bmi", Recoding("quadratic", {}, clip=(16.0, 45.0)), (16.0, 55.0)),
+    ("sodium_mmol_l", Recoding("spline", {"knots": [133.0, 138.0, 141.0, 146.0]}), (126, 152)),
+    ("albumin_g_l", Recoding("spline", {"knots": [30.0, 38.0, 45.0]}), (18.0, 55.0)),
+    (
+        "temperature_c",
+        Recoding("spline", {"knots": [36.1, 36.4, 36.6, 36.8, 37.0, 37.2, 37.6]}),
+        (35.5, 38.4),
+    ),
+    ("operation_minutes", Recoding("hinge", {"knot": 150.0}, clip=(20.0, 380.0)), (20.0, 380.0)),
+    ("hba1c_pct", Recoding("indicator", {"cut": 6.5}), (4.2, 13.5)),
+    ("incision_length_cm", Recoding("bands", {"edges": [5.0, 9.5, 15.0]}), (2.0, 40.0)),
+    ("haemoglobin_g_l", Recoding("linear", {}, clip=(90.0, 170.0)), (70.0, 185.0)),
+]
+
+
+def every_kind_log() -> RecodingLog:
+    """A log with every kind, repeated FP2 powers, clip, evidence and set-aside columns."""
+    log = RecodingLog(
+        outcome_column=OUTCOME,
+        event=1,
+        source=SourceInfo(
+            name="surgical_cohort.csv",
+            rows=5000,
+            sha256="4a3bdfbafbd7d5ca04646a28fcb1a87b271f31a8f3776b4d35ee94a5d3215f71",
+        ),
+        written_by=WRITER,
+    )
+    for i, (column, recoding, training_range) in enumerate(EVERY_KIND):
+        decision = Decision.make(
+            column,
+            recoding,
+            training_range,
+            note=f"chosen for the wound-infection model, step {i + 1}",
+            evidence={"delta_aic": -3.5 - i, "df": len(recoding.suffixes()), "groups": 4},
+            taken=log.output_names(),
+        )
+        log = log.with_decision(_at(decision))
+    log = log.with_set_aside(SetAside("record_id", "identifier, not a predictor", WHEN))
+    return log.with_set_aside(SetAside("antibiotic_dose_g", "the same in every row", WHEN))
+
+
+def _at(decision: Decision) -> Decision:
+    return replace(decision, decided_at=WHEN)
+
+
+def output_columns(log: RecodingLog) -> list[str]:
+    """Every output name, in log order."""
+    return [name for d in log.decisions for name in d.outputs]
+
+
+def golden_text(name: str, actual: str) -> str:
+    """The golden file's text (rewritten from ``actual`` when UPDATE_GOLDEN is set)."""
+    path = GOLDEN / name
+    if UPDATE_GOLDEN:
+        path.parent.mkdir(exist_ok=True)
+        path.write_text(actual.replace(WRITER, "bendwise <version>"), encoding="utf-8")
+    return read_golden(name)
+
+
+def read_golden(name: str) -> str:
+    """A golden file's text, with this bendwise's version filled in."""
+    return (GOLDEN / name).read_text(encoding="utf-8").replace("bendwise <version>", WRITER)

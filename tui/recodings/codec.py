@@ -1,0 +1,193 @@
+"""The recoding log as a JSON document and back, with the checks a schema cannot express.
+
+``to_document`` gives plain JSON values in a fixed key order. ``from_document`` expects a
+document that already passed the schema (see ``load.py``) and checks the rest: numbers each
+kind can apply, one output name per output, names unique across the log, one entry per
+column, ISO 8601 times.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Mapping
+from datetime import datetime
+from typing import Any
+
+import numpy as np
+
+from tui import __version__
+from tui.engine.forms.base import Recoding, RecodingError
+from tui.recodings.errors import EntryProblem
+from tui.recodings.model import (
+    FORMAT,
+    FORMAT_VERSION,
+    Decision,
+    RecodingLog,
+    SetAside,
+    SourceInfo,
+)
+
+# RecodingError messages start with the field they blame ("params.knots must be ...").
+_BLAMED_FIELD = re.compile(r"^(params(?:\.\w+)?(?:\[\d+\])?|clip)\s+(.*)$", re.DOTALL)
+
+
+def to_document(log: RecodingLog) -> dict[str, Any]:
+    """The log as plain JSON values, keys in the documented order."""
+    return {
+        "format": FORMAT,
+        "format_version": FORMAT_VERSION,
+        # The program that writes the file, not whichever version wrote it first.
+        "written_by": f"bendwise {__version__}",
+        "outcome": {"column": log.outcome_column, "event": plain(log.event, "outcome.event")},
+        "source": {
+            "name": log.source.name,
+            "rows": int(log.source.rows),
+            "sha256": log.source.sha256,
+        },
+        "recodings": [_decision_entry(d, i) for i, d in enumerate(log.decisions)],
+        "set_aside": [
+            {"column": s.column, "note": s.note, "decided_at": s.decided_at} for s in log.set_aside
+        ],
+    }
+
+
+def _decision_entry(decision: Decision, index: int) -> dict[str, Any]:
+    where = f"recodings[{index}]"
+    recoding = decision.recoding
+    entry: dict[str, Any] = {
+        "column": decision.column,
+        "kind": recoding.kind,
+        "params": plain(dict(recoding.params), f"{where}.params"),
+    }
+    if recoding.clip is not None:
+        entry["clip"] = [float(recoding.clip[0]), float(recoding.clip[1])]
+    entry.update(
+        outputs=list(decision.outputs),
+        range=[float(decision.range[0]), float(decision.range[1])],
+        note=decision.note,
+        decided_at=decision.decided_at,
+        # Evidence is a record of what was shown; a number that could not be computed
+        # (NaN) is written as null rather than refused.
+        evidence=plain(dict(decision.evidence), f"{where}.evidence", missing_as_null=True),
+    )
+    return entry
+
+
+def plain(value: Any, where: str, missing_as_null: bool = False) -> Any:
+    """``value`` as JSON types: numpy scalars unwrapped, tuples as lists, dict keys sorted.
+
+    Non-finite numbers raise ValueError, or become None when ``missing_as_null``.
+    """
+    if isinstance(value, Mapping):
+        return {
+            str(k): plain(value[k], f"{where}.{k}", missing_as_null) for k in sorted(value, key=str)
+        }
+    if isinstance(value, list | tuple | np.ndarray):
+        return [plain(v, f"{where}[{i}]", missing_as_null) for i, v in enumerate(value)]
+    if isinstance(value, np.generic):
+        value = value.item()
+    if value is None or isinstance(value, bool | str):
+        return value
+    if isinstance(value, int):
+        return value
+    if isinstance(value, float):
+        if math.isfinite(value):
+            return value
+        if missing_as_null:
+            return None
+        raise ValueError(f"{where}: {value!r} cannot be written; numbers must be finite")
+    raise TypeError(f"{where}: a {type(value).__name__} cannot be written to the log")
+
+
+def from_document(document: Mapping[str, Any]) -> RecodingLog:
+    """The log held by a schema-valid document; raises EntryProblem naming the entry."""
+    outcome, source = document["outcome"], document["source"]
+    set_aside = tuple(
+        SetAside(
+            column=item["column"],
+            note=item["note"],
+            decided_at=_timestamp(item["decided_at"], f"set_aside[{i}].decided_at"),
+        )
+        for i, item in enumerate(document.get("set_aside", []))
+    )
+    decisions = tuple(_decision(item, i) for i, item in enumerate(document["recodings"]))
+    _check_names(outcome["column"], decisions, set_aside)
+    return RecodingLog(
+        outcome_column=outcome["column"],
+        event=outcome["event"],
+        source=SourceInfo(name=source["name"], rows=source["rows"], sha256=source["sha256"]),
+        decisions=decisions,
+        set_aside=set_aside,
+        written_by=document["written_by"],
+    )
+
+
+def _decision(item: Mapping[str, Any], index: int) -> Decision:
+    where = f"recodings[{index}]"
+    clip = item.get("clip")
+    recoding = Recoding(
+        kind=item["kind"],
+        params=dict(item["params"]),
+        clip=None if clip is None else (float(clip[0]), float(clip[1])),
+    )
+    try:
+        recoding.validate()
+    except RecodingError as problem:
+        found = _BLAMED_FIELD.match(str(problem))
+        if found:
+            raise EntryProblem(f"{where}.{found[1]}", found[2]) from None
+        raise EntryProblem(f"{where}.params", str(problem)) from None
+    outputs = tuple(item["outputs"])
+    expected = len(recoding.suffixes())
+    if len(outputs) != expected:
+        raise EntryProblem(
+            f"{where}.outputs",
+            f"{recoding.describe()} gives {expected} output(s) but {len(outputs)} are named",
+        )
+    low, high = (float(v) for v in item["range"])
+    if low > high:
+        raise EntryProblem(f"{where}.range", f"training minimum {low} exceeds maximum {high}")
+    return Decision(
+        column=item["column"],
+        recoding=recoding,
+        outputs=outputs,
+        range=(low, high),
+        note=item["note"],
+        decided_at=_timestamp(item["decided_at"], f"{where}.decided_at"),
+        evidence=item["evidence"],
+    )
+
+
+def _timestamp(text: str, where: str) -> str:
+    try:
+        datetime.fromisoformat(text)
+    except ValueError:
+        raise EntryProblem(where, f"{text!r} is not an ISO 8601 date and time") from None
+    return text
+
+
+def _check_names(
+    outcome: str, decisions: tuple[Decision, ...], set_aside: tuple[SetAside, ...]
+) -> None:
+    """One entry per column; every output name new, unique, and not a source column."""
+    owner: dict[str, str] = {outcome: "the outcome column"}
+    for i, entry in enumerate(set_aside):
+        if entry.column in owner:
+            raise EntryProblem(
+                f"set_aside[{i}].column", f"'{entry.column}' is already {owner[entry.column]}"
+            )
+        owner[entry.column] = f"the column set aside at set_aside[{i}]"
+    for i, d in enumerate(decisions):
+        if d.column in owner:
+            raise EntryProblem(
+                f"recodings[{i}].column", f"'{d.column}' is already {owner[d.column]}"
+            )
+        owner[d.column] = f"the column recoded at recodings[{i}]"
+    for i, d in enumerate(decisions):
+        for j, name in enumerate(d.outputs):
+            if name in owner:
+                raise EntryProblem(
+                    f"recodings[{i}].outputs[{j}]", f"'{name}' is already {owner[name]}"
+                )
+            owner[name] = f"an output of recodings[{i}]"

@@ -7,7 +7,7 @@ import sys
 from collections.abc import Sequence
 
 from tui import __version__
-from tui.cli import scan_cmd
+from tui.cli import replay_cmd, report_cmd, review_cmd, scan_cmd, sql_cmd
 from tui.intake.errors import InputProblem
 
 
@@ -15,7 +15,7 @@ class _Parser(argparse.ArgumentParser):
     """Usage errors: one line and exit 2, without the usage block."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
-        sys.stderr.write(f"bendwise: {message} (see: bendwise {self.prog.split()[-1]} --help)\n")
+        sys.stderr.write(f"bendwise: {message} (see: {self.prog} --help)\n")
         sys.exit(2)
 
 
@@ -28,6 +28,10 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"bendwise {__version__}")
     commands = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
     scan_cmd.add_parser(commands)
+    review_cmd.add_parser(commands)
+    replay_cmd.add_parser(commands)
+    sql_cmd.add_parser(commands)
+    report_cmd.add_parser(commands)
     return parser
 
 

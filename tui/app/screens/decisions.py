@@ -1,0 +1,176 @@
+"""The third screen: what the recoding log on disk holds, with a key to remove an entry."""
+
+from __future__ import annotations
+
+import os
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer
+
+from tui.app.notices import not_saved, tell
+from tui.app.screens.confirm_prompt import ConfirmPrompt
+from tui.app.session import SET_ASIDE, LogNotSaved, ReviewSession
+from tui.app.text import path_text
+from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
+from tui.app.widgets.line import Line
+
+
+def log_rows(session: ReviewSession) -> list[Row]:
+    """One row per recording and per set-aside column, in the log's order."""
+    rows: list[Row] = []
+    here = set(session.columns)
+    for d in session.log.decisions:
+        word = session.decision_word(d.column) if d.column in here else d.recoding.describe()
+        rows.append(
+            (
+                d.column,
+                {
+                    "column": d.column if d.column in here else f"{d.column} (not in data)",
+                    "decision": word,
+                    "outputs": ", ".join(d.outputs),
+                    "when": d.decided_at.replace("T", " ")[:16],
+                    "note": d.note or "-",
+                },
+            )
+        )
+    for entry in session.log.set_aside:
+        rows.append(
+            (
+                entry.column,
+                {
+                    "column": entry.column,
+                    "decision": SET_ASIDE,
+                    "outputs": "-",
+                    "when": entry.decided_at.replace("T", " ")[:16],
+                    "note": entry.note or "-",
+                },
+            )
+        )
+    return rows
+
+
+def _count(n: int, word: str) -> str:
+    return f"{n} {word}" + ("" if n == 1 else "s")
+
+
+class LogTable(KeyTable):
+    """The log's entries; Enter opens the highlighted column."""
+
+    BINDINGS = [Binding("enter", "select_cursor", "Open")]
+
+    SPECS = (
+        ColumnSpec("column", "column", 18, 30, False, 0),
+        ColumnSpec("decision", "decision", 18, 26, False, 1),
+        ColumnSpec("note", "note", 16, 60, False, 2),
+        ColumnSpec("outputs", "new columns", 16, 60, False, 3),
+        ColumnSpec("when", "decided (UTC)", 16, 16, False, 4),
+    )
+
+
+class DecisionsScreen(Screen[str | None]):
+    """Lists the log; dismisses with a column to open, or None."""
+
+    CSS_PATH = "decisions.tcss"
+    BINDINGS = [
+        Binding("escape", "back", "Back", tooltip="Back to the previous screen"),
+        Binding(
+            "enter", "open_column", "Open", tooltip="Inspect the highlighted column", show=False
+        ),
+        Binding("r,delete", "remove", "Remove", tooltip="Remove the highlighted entry"),
+    ]
+
+    def __init__(self, session: ReviewSession) -> None:
+        super().__init__()
+        self.session = session
+
+    def compose(self) -> ComposeResult:
+        yield Line("Recoding log", id="title")
+        yield Line("", id="file")
+        yield Line("", id="warning")
+        yield LogTable(id="entries")
+        yield Line("", id="detail")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one(LogTable).focus()
+        self.redraw()
+
+    def redraw(self) -> None:
+        """Show the log as it is on disk now."""
+        s = self.session
+        path = path_text(str(s.log_path), os.getcwd())
+        log = s.log
+        count = f"{_count(len(log.decisions), 'recoding')}, {len(log.set_aside)} set aside"
+        state = "saved" if s.log_path.exists() else "not written yet (nothing decided)"
+        self.query_one("#file", Line).update(f"{path} · {count} · {state}")
+        warning = self.query_one("#warning", Line)
+        warning.update(f"! {s.source_warning}" if s.source_warning else "")
+        warning.display = bool(s.source_warning)
+        self.query_one(LogTable).show_rows(log_rows(s))
+        self._describe()
+
+    def _describe(self) -> None:
+        column = self.query_one(LogTable).highlighted_key()
+        detail = self.query_one("#detail", Line)
+        if column is None:
+            detail.update("The log is empty. Decisions made on the column screen appear here.")
+            return
+        decision = self.session.log.decision_for(column)
+        if decision is None:
+            detail.update(f"{column}: set aside · note: {self.session.note_of(column) or '-'}")
+            return
+        ev = decision.evidence
+        facts = [f"{column}: {decision.recoding.describe()}"]
+        if ev.get("score") is not None:
+            facts.append(f"score {ev['score']:.1f}")
+        if ev.get("delta_aic") is not None:
+            facts.append(f"ΔAIC {ev['delta_aic']:.1f}")
+        if ev.get("df") is not None:
+            facts.append(f"{ev['df']} df")
+        facts.append(f"range {decision.range[0]:.6g} to {decision.range[1]:.6g}")
+        facts.append(f"note: {decision.note or '-'}")
+        detail.update(" · ".join(facts))
+
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        self._describe()
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        event.stop()
+        self.action_open_column()
+
+    def action_open_column(self) -> None:
+        """Inspect the highlighted column."""
+        column = self.query_one(LogTable).highlighted_key()
+        if column is not None and column in self.session.columns:
+            self.dismiss(column)
+        elif column is not None:
+            tell(
+                self,
+                f"{column} is not a numeric column of this data",
+                severity="warning",
+            )
+
+    def action_remove(self) -> None:
+        """Remove the highlighted entry from the log (asks first)."""
+        column = self.query_one(LogTable).highlighted_key()
+        if column is None:
+            return
+        question = f"Remove the decision on {column} from the log?"
+        self.app.push_screen(ConfirmPrompt(question), lambda yes: self._remove(column, yes))
+
+    def _remove(self, column: str, yes: bool | None) -> None:
+        if not yes:
+            return
+        try:
+            self.session.remove(column)
+        except LogNotSaved as problem:
+            not_saved(self, problem)
+            return
+        tell(self, f"{column} removed from the log (saved)", timeout=3)
+        self.redraw()
+
+    def action_back(self) -> None:
+        """Back to the previous screen."""
+        self.dismiss(None)

@@ -1,0 +1,74 @@
+"""Every key of every screen, taken from the screens' own bindings."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import ModalScreen
+
+from tui.app.widgets.line import Line
+
+Section = tuple[str, Sequence[Binding]]
+"""A heading and the bindings listed under it."""
+
+MARKS = (
+    "Marks before a column name: ✓ a form accepted · = kept linear · × set aside · "
+    "! flagged (see the flags field).",
+    "Plot: ● empirical logit of a quantile group at its median, │ ±1.96 standard errors, "
+    "· · · linear fit, braille line the highlighted form.",
+    "q-values and shape hints read … until every column is scanned.",
+)
+
+
+def binding_text(binding: Binding) -> str:
+    """What a key does, in words (the longer tooltip when there is one)."""
+    return binding.tooltip or binding.description
+
+
+def key_text(display: Callable[[Binding], str], binding: Binding) -> str:
+    """All keys of a binding, as shown to the user (``?`` not ``question_mark``)."""
+    keys = [k.strip() for k in binding.key.split(",") if k.strip()]
+    return " / ".join(display(Binding(k, binding.action)) for k in keys)
+
+
+class HelpView(ModalScreen[None]):
+    """Scrollable list of keys by screen; Escape, q or ? closes it."""
+
+    CSS_PATH = "help_view.tcss"
+    BINDINGS = [
+        Binding("escape,q,question_mark,f1", "close", "Close"),
+        Binding("j", "scroll('down')", "Down", show=False),
+        Binding("k", "scroll('up')", "Up", show=False),
+    ]
+
+    def __init__(self, sections: Sequence[Section]) -> None:
+        super().__init__()
+        self._sections = sections
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(id="box"):
+            yield Line("Keys", id="title")
+            for heading, bindings in self._sections:
+                yield Line(heading, classes="heading")
+                lines = [
+                    f"  {key_text(self.app.get_key_display, b):<16} {binding_text(b)}"
+                    for b in bindings
+                    if b.description and not b.action.startswith("app.")
+                ]
+                yield Line("\n".join(lines), classes="keys")
+            yield Line("How to read the screens", classes="heading")
+            yield Line("\n".join(f"  {line}" for line in MARKS), classes="keys")
+            yield Line("Esc: close", id="foot")
+
+    def action_scroll(self, direction: str) -> None:
+        box = self.query_one("#box", VerticalScroll)
+        if direction == "down":
+            box.scroll_down()
+        else:
+            box.scroll_up()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

@@ -1,0 +1,398 @@
+"""The second screen: one column's picture, its candidate forms, and the decision keys."""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable
+
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer
+from textual.worker import Worker, WorkerState, get_current_worker
+
+from tui.app.fit_cache import TAIL_SHARE, ColumnFits, FitCache, FitRequest
+from tui.app.notices import not_saved, tell
+from tui.app.screens.decisions import DecisionsScreen
+from tui.app.screens.note_prompt import NotePrompt
+from tui.app.screens.recorded_view import RecordedView
+from tui.app.screens.value_prompt import ValuePrompt
+from tui.app.session import LogNotSaved, ReviewSession
+from tui.app.text import number_text, p_text, path_text, value_text
+from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
+from tui.app.widgets.line import Line
+from tui.app.widgets.logit_plot import LogitPlot
+from tui.cautions import CAUTIONS
+from tui.engine.compare import FormFit
+from tui.engine.forms.base import Recoding
+from tui.engine.forms.hinge import HingeCandidate
+from tui.engine.forms.indicator import IndicatorCandidate
+from tui.engine.forms.spline import KNOT_PERCENTILES
+from tui.engine.groups import GROUP_CHOICES
+from tui.recodings.model import Decision
+
+CUT_CAUTION = CAUTIONS[1]
+"""Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
+CUT_KINDS = ("indicator", "bands")
+KNOT_CHOICES = tuple(sorted(KNOT_PERCENTILES))
+GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
+KNOTS_TIP = "Next number of spline knots (3 to 7)"
+CUT_TIP = "Type a cut point for an indicator"
+HINGE_TIP = "Type the knot of a hinge"
+SHORT_BELOW = 32
+"""Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
+
+
+def next_choice(choices: tuple[int, ...], current: int) -> int:
+    """The next choice after ``current`` (wrapping); from a value not offered, the next
+    larger one."""
+    later = [c for c in choices if c > current]
+    return later[0] if later else choices[0]
+
+
+class InspectScreen(Screen[str]):
+    """One column under inspection; dismisses with the column last shown."""
+
+    CSS_PATH = "inspect.tcss"
+    BINDINGS = [
+        Binding("escape", "back", "Back", tooltip="Back to the column list"),
+        Binding("a", "accept", "Accept", tooltip="Accept the highlighted form"),
+        Binding("l", "keep_linear", "Linear", tooltip="Keep the column linear"),
+        Binding("x", "set_aside", "Aside", tooltip="Set the column aside (not used)"),
+        Binding("n", "note", "Note", tooltip="Add or edit the note on the column"),
+        Binding("left_square_bracket", "step(-1)", "Prev", tooltip="Previous column"),
+        Binding("right_square_bracket", "step(1)", "Next", tooltip="Next column"),
+        # Shown on the settings line above the footer instead (the footer is full at 80).
+        Binding("g", "cycle_groups", "Groups", tooltip=GROUPS_TIP, show=False),
+        Binding("s", "cycle_knots", "Knots", tooltip=KNOTS_TIP, show=False),
+        Binding("c", "enter_cut", "Cut", tooltip=CUT_TIP, show=False),
+        Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
+        Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
+    ]
+
+    def __init__(self, session: ReviewSession, cache: FitCache, column: str) -> None:
+        super().__init__()
+        self.session, self.cache, self.column = session, cache, column
+        self.groups = session.settings.groups
+        self.knots = session.settings.knots
+        self.fits: ColumnFits | None = None
+        self._want_label: str | None = None
+
+    def compose(self) -> ComposeResult:
+        yield Line("", id="heading")
+        yield Line("", id="evidence")
+        yield LogitPlot(id="plot")
+        yield Line("", id="legend")
+        yield FormsTable(id="forms")
+        yield Line("", id="notes")
+        yield Line("", id="caution")
+        yield Line("", id="note")
+        yield Line("", id="settings")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one(FormsTable).focus()
+        self.show_column(self.column)
+
+    # --- what is shown --------------------------------------------------------------------
+
+    def request(self) -> FitRequest:
+        """The fits wanted now."""
+        s = self.session
+        return FitRequest(
+            self.column,
+            self.groups,
+            self.knots,
+            s.hand_cuts.get(self.column, ()),
+            s.hand_hinges.get(self.column, ()),
+        )
+
+    def show_column(self, column: str) -> None:
+        """Switch to ``column``: fits from the cache, or computed in a worker."""
+        self.column = column
+        self.fits = None
+        self._want_label = None  # a new column starts on its first form
+        self.query_one(FormsTable).show_rows([])
+        self._refresh_heading()
+        self._load()
+
+    def _load(self, focus_label: str | None = None) -> None:
+        """Show the fits of the current request; ``focus_label`` is the row to highlight
+        once they are in (kept until then, however many requests come in between)."""
+        if focus_label is not None:
+            self._want_label = focus_label
+        request = self.request()
+        cached = self.cache.cached(request)
+        if cached is not None:
+            self._show_fits(cached)
+            return
+        if self.fits is None:  # a new column: nothing of the old one may stay on screen
+            self.query_one(LogitPlot).draw(None, None)
+            self.query_one("#legend", Line).update("")
+            self.query_one("#caution", Line).update("")
+        self.query_one("#notes", Line).update(f"fitting the candidate forms of {self.column}…")
+        self.compute(request)
+
+    @work(thread=True, exclusive=True, group="fits", exit_on_error=False)
+    def compute(self, request: FitRequest) -> None:
+        """Fit every candidate off the UI thread; the cache keeps the result."""
+        fits = self.cache.fits(request)
+        if not get_current_worker().is_cancelled:
+            self.app.call_from_thread(self._arrived, fits)
+
+    def _arrived(self, fits: ColumnFits) -> None:
+        if fits.request == self.request():  # a stale result stays in the cache only
+            self._show_fits(fits)
+
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        if event.worker.group == "fits" and event.state == WorkerState.ERROR:
+            error = event.worker.error
+            self.query_one("#notes", Line).update(
+                f"✗ the engine could not fit {self.column}: {type(error).__name__}: {error}"
+            )
+
+    def _show_fits(self, fits: ColumnFits) -> None:
+        self.fits = fits
+        table = self.query_one(FormsTable)
+        table.show(fits, self._accepted())
+        if self._want_label is not None:
+            table.move_to_key(self._want_label)
+            self._want_label = None
+        self._refresh_heading()
+        self._refresh_row()
+
+    def _accepted(self) -> Recoding | None:
+        decision = self.session.log.decision_for(self.column)
+        return decision.recoding if decision is not None else None
+
+    def highlighted(self) -> FormFit | None:
+        """The candidate under the cursor."""
+        if self.fits is None or self.fits.table is None:
+            return None
+        label = self.query_one(FormsTable).highlighted_key()
+        return self.fits.table.row(label) if label is not None else None
+
+    def _refresh_heading(self) -> None:
+        s = self.session
+        order = s.order if self.column in s.order else s.columns
+        where = f"{order.index(self.column) + 1} of {len(order)}" if self.column in order else ""
+        decided = s.decision_phrase(self.column)
+        self.query_one("#heading", Line).update(f"{self.column} · {where} · {decided}")
+        scan = s.scan_of(self.column)
+        parts = []
+        if scan is not None and scan.score is not None:
+            score = f"score {number_text(scan.score)} on {scan.df} df"
+            if s.scan_finished:
+                parts.append(f"{score} · q {p_text(scan.q_value)} · {scan.shape or '-'}")
+            else:
+                parts.append(f"{score} · q and shape when the scan ends")
+        elif scan is not None:
+            parts.append(f"not scored ({', '.join(scan.flags) or 'see flags'})")
+        if self.fits is not None and self.fits.tails is not None:
+            share = f"{TAIL_SHARE:.0%}"
+            low, high = (value_text(v) for v in self.fits.tails)
+            parts.append(f"{share} of rows < {low} · {share} > {high}")
+        self.query_one("#evidence", Line).update(" · ".join(parts))
+        note = s.note_of(self.column)
+        self.query_one("#note", Line).update(f"note: {note}" if note else "")
+        self.query_one("#note").display = bool(note)
+        self.query_one("#settings", Line).update(
+            f"g: {self.groups} groups · s: {self.knots} knots · c: own cut point · "
+            "h: own hinge knot · !: cautions"
+        )
+
+    def _refresh_row(self) -> None:
+        """Redraw the candidate curve, the legend and the notes for the highlighted row."""
+        fits = self.fits
+        row = self.highlighted()
+        self.query_one(LogitPlot).draw(fits, row)
+        legend = "● group logit  │ ±1.96 SE  · · linear"
+        if row is not None and row.kind != "linear" and row.fit is not None:
+            legend += f"  ⠤⠤ {form_text(row)}"
+        self.query_one("#legend", Line).update(legend)
+        notes = self.query_one("#notes", Line)
+        caution = self.query_one("#caution", Line)
+        caution.update("")
+        caution.display = False
+        if fits is not None and fits.problem is not None:
+            notes.update(f"✗ {fits.problem}")
+            return
+        if row is None or fits is None:
+            notes.update("")
+            return
+        words = row_notes(row, row.label in fits.request.hand_labels())
+        bt = fits.table.box_tidwell if fits.table is not None else None
+        if row.kind == "linear" and bt is not None:
+            words.append(f"Box–Tidwell power {bt.power:.2f}, p {p_text(bt.p_value)}")
+        notes.update(f"{form_text(row)}: " + ("; ".join(words) if words else "no notes"))
+        if row.kind in CUT_KINDS:
+            caution.update(f"Caution: {CUT_CAUTION}")
+            caution.display = True
+
+    def on_resize(self) -> None:
+        # Short terminals give the plot the room and let the table scroll.
+        self.set_class(self.size.height < SHORT_BELOW, "-short")
+
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        self._refresh_row()
+
+    # --- decisions ------------------------------------------------------------------------
+
+    def action_accept(self) -> None:
+        """Accept the highlighted form for this column."""
+        row = self.highlighted()
+        if row is None:
+            tell(self, "no form to accept yet", severity="warning")
+            return
+        if row.status != "ok" or row.recoding is None:
+            text = f"not accepted: {form_text(row)} did not fit ({row.status})"
+            tell(self, text, severity="warning")
+            return
+        hand = self.fits is not None and row.label in self.fits.request.hand_labels()
+        self._decide(lambda: self.session.accept(self.column, row, self.groups, self.knots, hand))
+
+    def action_keep_linear(self) -> None:
+        """Keep this column as a plain linear term."""
+        linear = self.fits.table.linear if self.fits and self.fits.table else None
+        if linear is None or linear.recoding is None:
+            tell(self, "the linear form is not fitted yet", severity="warning")
+            return
+        self._decide(lambda: self.session.accept(self.column, linear, self.groups, self.knots))
+
+    def _decide(self, record: Callable[[], Decision]) -> None:
+        try:
+            decision: Decision = record()
+        except LogNotSaved as problem:
+            not_saved(self, problem)
+            return
+        self._after_change()
+        x = self.session.dataset.values(self.column)  # as replay reads it
+        name = path_text(str(self.session.log_path), os.getcwd())
+        self.app.push_screen(RecordedView(decision, x, name))
+
+    def action_set_aside(self) -> None:
+        """Record that this column is not to be used."""
+        try:
+            self.session.set_aside(self.column)
+        except LogNotSaved as problem:
+            not_saved(self, problem)
+            return
+        self._after_change()
+        tell(self, f"{self.column} set aside (saved)", timeout=3)
+
+    def action_note(self) -> None:
+        """Add or edit the note on this column."""
+        saved = self.session.is_decided(self.column)
+        prompt = NotePrompt(self.column, self.session.note_of(self.column), saved)
+        self.app.push_screen(prompt, self._noted)
+
+    def _noted(self, note: str | None) -> None:
+        if note is None:
+            return
+        try:
+            saved = self.session.set_note(self.column, note)
+        except LogNotSaved as problem:
+            not_saved(self, problem)
+            return
+        text = "note saved" if saved else "note kept; it is saved with the decision"
+        tell(self, text, timeout=3)
+        self._refresh_heading()
+
+    def _after_change(self) -> None:
+        if self.fits is not None:
+            self.query_one(FormsTable).show(self.fits, self._accepted())
+        self._refresh_heading()
+
+    # --- settings and hand-entered forms ------------------------------------------------
+
+    def action_cycle_groups(self) -> None:
+        """Next number of quantile groups (4, 5, 10, 20)."""
+        self.groups = next_choice(GROUP_CHOICES, self.groups)
+        self._refresh_heading()
+        label = self.query_one(FormsTable).highlighted_key() or self._want_label
+        if label is not None and label.startswith("bands,"):
+            label = f"bands, {self.groups} groups"  # the bands follow the groups
+        self._load(label)
+
+    def action_cycle_knots(self) -> None:
+        """Next number of spline knots (3 to 7)."""
+        self.knots = next_choice(KNOT_CHOICES, self.knots)
+        self._refresh_heading()
+        self._load(f"spline, {self.knots} knots")
+
+    def _range(self) -> tuple[float, float] | None:
+        profile = self.session.profile_of(self.column)
+        if profile.minimum is None or profile.maximum is None:
+            return None
+        if profile.minimum >= profile.maximum:
+            return None
+        return profile.minimum, profile.maximum
+
+    def action_enter_cut(self) -> None:
+        """Type a cut point for an indicator (1 when x < c)."""
+        span = self._range()
+        if span is None:
+            tell(self, "no range of values to cut", severity="warning")
+            return
+        prompt = ValuePrompt(
+            f"Cut point for {self.column}",
+            "The indicator is 1 below the cut point and 0 from it upwards.",
+            *span,
+        )
+        self.app.push_screen(prompt, self._cut_entered)
+
+    def action_enter_hinge(self) -> None:
+        """Type the knot of a hinge (x, and x beyond the knot)."""
+        span = self._range()
+        if span is None:
+            tell(self, "no range of values to place a knot in", severity="warning")
+            return
+        prompt = ValuePrompt(
+            f"Hinge knot for {self.column}",
+            "The slope may change at the knot: x and max(x − knot, 0).",
+            *span,
+        )
+        self.app.push_screen(prompt, self._hinge_entered)
+
+    def _cut_entered(self, value: float | None) -> None:
+        if value is None:
+            return
+        label = IndicatorCandidate(cut=value).label
+        if label not in self.request().hand_labels():  # 12.5 and 12.5000001 read the same
+            cuts = self.session.hand_cuts.get(self.column, ())
+            self.session.hand_cuts[self.column] = cuts + (value,)
+        self._load(label)
+
+    def _hinge_entered(self, value: float | None) -> None:
+        if value is None:
+            return
+        label = HingeCandidate(knot=value).label
+        if label not in self.request().hand_labels():
+            knots = self.session.hand_hinges.get(self.column, ())
+            self.session.hand_hinges[self.column] = knots + (value,)
+        self._load(label)
+
+    # --- moving ---------------------------------------------------------------------------
+
+    def action_step(self, step: int) -> None:
+        """Show the previous or next column of the list."""
+        column = self.session.neighbour(self.column, step)
+        if column is None:
+            tell(self, "no more columns that way", timeout=2)
+            return
+        self.show_column(column)
+
+    def action_back(self) -> None:
+        """Back to the list."""
+        self.dismiss(self.column)
+
+    def action_decisions(self) -> None:
+        """Open the recoding log."""
+        self.app.push_screen(DecisionsScreen(self.session), self._from_log)
+
+    def _from_log(self, column: str | None) -> None:
+        if column is not None:
+            self.show_column(column)
+        else:
+            self._after_change()

@@ -1,0 +1,259 @@
+"""The first screen: every numeric column, most non-linear first, filling in as the scan runs."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from textual import events
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal
+from textual.screen import Screen
+from textual.timer import Timer
+from textual.widgets import DataTable, Footer, Input, ProgressBar
+
+from tui.app.fit_cache import FitCache
+from tui.app.notices import tell
+from tui.app.screens.decisions import DecisionsScreen
+from tui.app.screens.inspect import InspectScreen
+from tui.app.session import ReviewSession
+from tui.app.text import number_text
+from tui.app.widgets.line import Line
+from tui.app.widgets.triage_table import TriageTable
+from tui.engine.scan import ColumnScan
+
+SORTS = ("evidence", "name", "ΔAIC", "file order")
+"""Orders of the list, in the order the sort key steps through them."""
+MOVING_KEYS = {"up", "down", "j", "k", "pageup", "pagedown", "home", "end"}
+REFRESH_SECONDS = 0.2
+"""While the scan runs, the list is redrawn at most this often."""
+
+
+def arrange(
+    scans: Sequence[ColumnScan],
+    sort: str,
+    file_order: Sequence[str],
+    text: str,
+    hide: set[str],
+) -> list[ColumnScan]:
+    """The rows to show: ``scans`` (in evidence order) filtered by name and re-sorted."""
+    rows = [s for s in scans if text.lower() in s.column.lower() and s.column not in hide]
+    if sort == "name":
+        rows.sort(key=lambda s: s.column.lower())
+    elif sort == "ΔAIC":
+        rows.sort(key=lambda s: (s.delta_aic is None, s.delta_aic or 0.0))
+    elif sort == "file order":
+        position = {name: i for i, name in enumerate(file_order)}
+        rows.sort(key=lambda s: position.get(s.column, len(position)))
+    return rows
+
+
+class TriageScreen(Screen[None]):
+    """The list of columns with their evidence and decisions."""
+
+    CSS_PATH = "triage.tcss"
+    BINDINGS = [
+        # Hidden here because the table's own Enter binding shows "Open" in the footer.
+        Binding(
+            "enter", "open_column", "Open", tooltip="Inspect the highlighted column", show=False
+        ),
+        Binding("s", "cycle_sort", "Sort", tooltip="Sort by evidence, name, ΔAIC, file order"),
+        Binding("slash", "filter", "Filter", tooltip="Show columns whose name holds a text"),
+        Binding("d", "toggle_decided", "Hide decided", tooltip="Hide or show decided columns"),
+        Binding("L", "decisions", "Log", tooltip="Open the recoding log"),
+        Binding("q", "app.quit", "Quit", tooltip="Quit (every decision is already saved)"),
+        Binding("exclamation_mark", "app.cautions", "Cautions", tooltip="Read the cautions"),
+        Binding(
+            "escape", "clear_filter", "Clear filter", tooltip="Drop the name filter", show=False
+        ),
+    ]
+
+    def __init__(self, session: ReviewSession, cache: FitCache) -> None:
+        super().__init__()
+        self.session, self.cache = session, cache
+        self.sort = SORTS[0]
+        self.hide_decided = False
+        self._filter = ""
+        self._redraw_timer: Timer | None = None
+        self._scan_text = "starting the scan…"
+        self._follow_top = True  # while the scan runs, until a key moves the cursor
+        self._opening_filter = False
+
+    def compose(self) -> ComposeResult:
+        s = self.session
+        outcome = s.dataset.outcome
+        yield Line(
+            f"bendwise review · {s.dataset.path.name} · outcome {outcome.column} "
+            f"(event {outcome.event})",
+            id="title",
+        )
+        with Horizontal(id="progress"):
+            yield ProgressBar(
+                total=len(s.columns), show_eta=False, show_percentage=False, id="scan-bar"
+            )
+            yield Line(self._scan_text, id="scanned")
+        yield Line("", id="summary")
+        yield Line(f"! {s.source_warning}" if s.source_warning else "", id="warning")
+        yield Input(placeholder="type part of a column name; Enter: done, Esc: clear", id="filter")
+        yield TriageTable(id="columns")
+        yield Line("", id="detail")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#warning").display = bool(self.session.source_warning)
+        self.query_one("#filter").display = False
+        self.query_one(TriageTable).focus()
+        self.redraw()
+
+    def on_screen_resume(self) -> None:
+        self.redraw()
+
+    # --- the scan reports here (from the app) ---------------------------------------------
+
+    def scan_progress(self, done: int, total: int, finished: bool, problem: str | None) -> None:
+        """New scan results are in the session: update the bar now, the list soon."""
+        self.query_one("#scan-bar", ProgressBar).update(total=total, progress=done)
+        skipped = [p.name for p in self.session.dataset.skipped]
+        if problem is not None:
+            self._scan_text = f"scan stopped after {done}/{total} columns: {problem}"
+        elif finished:
+            scored = sum(1 for r in self.session.ranked if r.score is not None)
+            self._scan_text = f"{done}/{total} columns scanned, {scored} scored"
+            if skipped:
+                self._scan_text += f"; not numeric: {', '.join(skipped)}"
+        else:
+            self._scan_text = f"{done}/{total} columns scanned (q-values at the end)"
+        self.query_one("#scanned", Line).update(self._scan_text)
+        self.query_one("#scan-bar").display = not finished and problem is None
+        if finished or problem is not None:
+            if self._redraw_timer is not None:
+                self._redraw_timer.stop()
+                self._redraw_timer = None
+            self.redraw()
+            self._follow_top = False
+        elif self._redraw_timer is None:
+            self._redraw_timer = self.set_timer(REFRESH_SECONDS, self._timed_redraw)
+
+    def _timed_redraw(self) -> None:
+        self._redraw_timer = None
+        self.redraw()
+
+    # --- drawing --------------------------------------------------------------------------
+
+    def redraw(self) -> None:
+        """Rebuild the list from the session."""
+        s = self.session
+        hide = {c for c in s.columns if s.is_decided(c)} if self.hide_decided else set()
+        rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
+        s.order = [r.column for r in rows]
+        table = self.query_one(TriageTable)
+        table.show(rows, s)
+        if self._follow_top:
+            table.move_to_key(None)
+        parts = [f"{s.decided_count()} of {len(s.columns)} decided", f"sorted by {self.sort}"]
+        if self._filter:
+            parts.append(f"names containing '{self._filter}'")
+        if self.hide_decided:
+            parts.append("decided hidden")
+        if len(rows) < len(s.ranked):
+            parts.append(f"showing {len(rows)}")
+        self.query_one("#summary", Line).update(" · ".join(parts))
+        self._describe_highlighted()
+
+    def _describe_highlighted(self) -> None:
+        column = self.query_one(TriageTable).highlighted_key()
+        scan = self.session.scan_of(column) if column else None
+        detail = self.query_one("#detail", Line)
+        if scan is None:
+            empty = "no column matches" if self.session.ranked else "waiting for the first column…"
+            detail.update(empty)
+            return
+        best = scan.best_form or "-"
+        detail.update(
+            f"{scan.column}: n {scan.n} · missing {scan.missing} · distinct {scan.distinct} · "
+            f"best {best} (ΔAIC {number_text(scan.delta_aic)}) · flags "
+            f"{', '.join(scan.flags) or 'none'} · {self.session.decision_phrase(scan.column)}"
+        )
+
+    def on_key(self, event: events.Key) -> None:
+        if event.key in MOVING_KEYS:
+            self._follow_top = False
+        # Keys typed quickly after the slash arrive before its binding runs and before
+        # focus reaches the box: open the box here and keep what is typed.
+        box = self.query_one("#filter", Input)
+        if event.key == "slash" and not box.display:
+            self.action_filter()
+            event.stop()
+        elif self._opening_filter and event.is_printable and event.character:
+            box.insert_text_at_cursor(event.character)
+            event.stop()
+
+    def on_descendant_focus(self, event: events.DescendantFocus) -> None:
+        if event.widget is self.query_one("#filter", Input):
+            self._opening_filter = False
+
+    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        self._describe_highlighted()
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        event.stop()
+        self.action_open_column()
+
+    # --- actions --------------------------------------------------------------------------
+
+    def action_open_column(self) -> None:
+        """Inspect the highlighted column."""
+        column = self.query_one(TriageTable).highlighted_key()
+        if column is not None:
+            self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)
+
+    def _back(self, column: str | None) -> None:
+        self._follow_top = False
+        self.redraw()
+        self.query_one(TriageTable).move_to_key(column)
+
+    def action_cycle_sort(self) -> None:
+        """Step to the next order of the list."""
+        self.sort = SORTS[(SORTS.index(self.sort) + 1) % len(SORTS)]
+        self.redraw()
+        tell(self, f"sorted by {self.sort}", timeout=2)
+
+    def action_toggle_decided(self) -> None:
+        """Hide or show the columns that already have a decision."""
+        self.hide_decided = not self.hide_decided
+        self.redraw()
+
+    def action_filter(self) -> None:
+        """Type part of a name to narrow the list."""
+        box = self.query_one("#filter", Input)
+        if not box.has_focus:
+            self._opening_filter = True  # until the box has the focus (see on_key)
+        box.display = True
+        box.focus()
+
+    def action_clear_filter(self) -> None:
+        """Drop the name filter."""
+        box = self.query_one("#filter", Input)
+        box.value = ""
+        box.display = False
+        self._filter = ""
+        self.query_one(TriageTable).focus()
+        self.redraw()
+
+    def on_input_changed(self, event: Input.Changed) -> None:
+        self._filter = event.value.strip()
+        self.redraw()
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        if not event.value.strip():
+            self.action_clear_filter()
+        else:
+            self.query_one(TriageTable).focus()
+
+    def action_decisions(self) -> None:
+        """Open the recoding log."""
+        self.app.push_screen(DecisionsScreen(self.session), self._open_from_log)
+
+    def _open_from_log(self, column: str | None) -> None:
+        if column is not None:
+            self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)

@@ -1,0 +1,61 @@
+"""The candidate forms of one column, as the engine compared them."""
+
+from __future__ import annotations
+
+from tui.app.fit_cache import ColumnFits
+from tui.app.text import number_text, p_text
+from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
+from tui.engine.compare import FormFit
+from tui.engine.forms.base import Recoding
+
+BY_HAND = "entered by hand"
+ACCEPTED_MARK = "✓"
+
+
+def row_notes(row: FormFit, by_hand: bool) -> list[str]:
+    """The engine's notes on a row, after its fit status when that is not ``ok``."""
+    notes = list(row.notes)
+    if row.status != "ok":
+        notes.insert(0, row.status if row.status != "failed" else "could not be fitted")
+    if by_hand:
+        notes.insert(0, BY_HAND)
+    return notes
+
+
+def form_text(row: FormFit) -> str:
+    """The learned form in words (the candidate's label when nothing was learned)."""
+    return row.recoding.describe() if row.recoding is not None else row.label
+
+
+def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool) -> Row:
+    """A table row for one candidate, keyed by its label."""
+    mark = ACCEPTED_MARK if accepted is not None and row.recoding == accepted else " "
+    return row.label, {
+        "form": f"{mark} {form_text(row)}",
+        "df": str(row.df) if row.recoding is not None else "-",
+        "deviance": number_text(row.deviance),
+        "aic": number_text(row.aic),
+        "delta_aic": number_text(row.delta_aic),
+        "lr_p": p_text(row.lr_p),
+        "notes": "; ".join(row_notes(row, by_hand)) or "-",
+    }
+
+
+class FormsTable(KeyTable):
+    """One row per candidate form; the row key is the candidate's label."""
+
+    SPECS = (
+        ColumnSpec("form", "form", 20, 30, False, 0),
+        ColumnSpec("df", "df", 2, 2, True, 1),
+        ColumnSpec("deviance", "deviance", 8, 9, True, 2),
+        ColumnSpec("aic", "AIC", 8, 9, True, 3),
+        ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 4),
+        ColumnSpec("lr_p", "LR p", 7, 7, True, 5),
+        ColumnSpec("notes", "notes", 10, 90, False, 6),
+    )
+
+    def show(self, fits: ColumnFits, accepted: Recoding | None) -> None:
+        """Show the candidates of ``fits``, marking the accepted one."""
+        hand = fits.request.hand_labels()
+        rows = fits.table.rows if fits.table is not None else ()
+        self.show_rows([form_row(r, accepted, r.label in hand) for r in rows])

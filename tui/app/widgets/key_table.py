@@ -1,0 +1,135 @@
+"""A row-cursor table that also moves with j and k, and fits its columns to the width."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import ClassVar
+
+from rich.text import Text
+from textual import events
+from textual.binding import Binding
+from textual.widgets import DataTable
+from textual.widgets.data_table import RowDoesNotExist
+
+
+@dataclass(frozen=True)
+class ColumnSpec:
+    """One column a table may show."""
+
+    key: str
+    """Column key."""
+    header: str
+    """Header text."""
+    width: int
+    """Narrowest useful width."""
+    widest: int
+    """Widest useful width (extra room goes to columns that can use it)."""
+    right: bool
+    """Numbers are right-aligned."""
+    priority: int
+    """Lower numbers are kept first when the terminal is narrow."""
+
+
+def fit_columns(specs: Sequence[ColumnSpec], room: int) -> list[tuple[ColumnSpec, int]]:
+    """The columns that fit in ``room`` cells (one blank cell before each), in display
+    order, with their widths. Columns are kept by priority; leftover room widens them."""
+    chosen: set[str] = set()
+    used = 0
+    for spec in sorted(specs, key=lambda s: s.priority):
+        if used + spec.width + 1 <= room:
+            chosen.add(spec.key)
+            used += spec.width + 1
+    widths = {s.key: s.width for s in specs if s.key in chosen}
+    spare = room - used
+    for spec in sorted(specs, key=lambda s: s.priority):
+        if spec.key in chosen and spare > 0:
+            extra = min(spare, spec.widest - spec.width)
+            widths[spec.key] += extra
+            spare -= extra
+    return [(s, widths[s.key]) for s in specs if s.key in chosen]
+
+
+def cell(text: str, width: int, right: bool) -> Text:
+    """A cell's text cut to its width, with one blank cell before it."""
+    if len(text) > width:
+        text = text[: width - 1] + "…"
+    return Text(" " + (text.rjust(width) if right else text.ljust(width)))
+
+
+Row = tuple[str, dict[str, str]]
+"""A row key and the text of each field."""
+
+
+class KeyTable(DataTable):
+    """Row cursor, zebra stripes, j/k as well as the arrows; the fields shown follow the
+    width (``SPECS`` lists them), so nothing scrolls sideways."""
+
+    SPECS: ClassVar[tuple[ColumnSpec, ...]] = ()
+
+    BINDINGS = [
+        Binding("j", "cursor_down", "Down", show=False),
+        Binding("k", "cursor_up", "Up", show=False),
+    ]
+
+    def __init__(self, *, id: str | None = None) -> None:  # noqa: A002 (Textual's name)
+        super().__init__(id=id, cursor_type="row", zebra_stripes=True, cell_padding=0)
+        self._shown: list[tuple[ColumnSpec, int]] = []
+        self._rows: list[Row] = []
+
+    def on_resize(self, event: events.Resize) -> None:
+        self._layout(event.size.width)
+
+    def show_rows(self, rows: Sequence[Row]) -> None:
+        """Show these rows, keeping the cursor on the same key where possible."""
+        self._rows = list(rows)
+        if self._layout(self.size.width or 80):
+            return
+        key = self.highlighted_key()
+        self._fill()
+        self.move_to_key(key)
+
+    def highlighted_key(self) -> str | None:
+        """The key of the row under the cursor."""
+        if not self.row_count:
+            return None
+        row_key, _ = self.coordinate_to_cell_key(self.cursor_coordinate)
+        return row_key.value
+
+    def move_to_key(self, key: str | None) -> None:
+        """Put the cursor on the row with this key (the first row when it is gone)."""
+        if not self.row_count:
+            return
+        try:
+            index = self.get_row_index(key) if key is not None else 0
+        except RowDoesNotExist:  # filtered out, or not there yet
+            index = 0
+        self.move_cursor(row=index, animate=False)
+
+    def _layout(self, width: int) -> bool:
+        """Choose the columns for this width; True when they changed (and were refilled)."""
+        specs = []
+        for spec in self.SPECS:
+            longest = self._longest(spec)  # room beyond the longest text is wasted
+            narrow = longest if spec.right else min(spec.width, longest)  # numbers never cut
+            specs.append(replace(spec, width=narrow, widest=max(narrow, min(spec.widest, longest))))
+        shown = fit_columns(specs, max(width - 1, 20))  # one cell for the scrollbar
+        if [(s.key, w) for s, w in shown] == [(s.key, w) for s, w in self._shown]:
+            return False
+        key = self.highlighted_key()
+        self._shown = shown
+        self.clear(columns=True)
+        for spec, w in shown:
+            self.add_column(cell(spec.header, w, spec.right), key=spec.key, width=w + 1)
+        self._fill()
+        self.move_to_key(key)
+        return True
+
+    def _longest(self, spec: ColumnSpec) -> int:
+        """The longest text of a column, header included."""
+        return max([len(spec.header)] + [len(fields[spec.key]) for _, fields in self._rows])
+
+    def _fill(self) -> None:
+        self.clear()
+        for key, fields in self._rows:
+            self.add_row(*(cell(fields[s.key], w, s.right) for s, w in self._shown), key=key)

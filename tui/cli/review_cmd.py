@@ -1,0 +1,37 @@
+"""``bendwise review``: the keyboard-driven review of every numeric column."""
+
+from __future__ import annotations
+
+import argparse
+
+from tui.cli.common import add_data_options, add_fit_options
+from tui.engine.scan import ScanSettings
+
+
+def add_parser(commands: argparse._SubParsersAction) -> None:
+    parser = commands.add_parser(
+        "review",
+        help="review columns one by one and record a form for each",
+        description="Scan every numeric column, then review them worst first: the "
+        "empirical logits with candidate forms, a decision per column, each saved at once "
+        "to the recoding log.",
+    )
+    add_data_options(parser)
+    add_fit_options(parser)
+    parser.add_argument(
+        "--log",
+        metavar="LOG",
+        help="recoding log to read and write (default: <data stem>.recodings.json here)",
+    )
+    parser.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    # Textual loads only when the review starts, so other commands stay quick.
+    from tui.app.app import ReviewApp
+    from tui.app.session import open_session
+
+    settings = ScanSettings(groups=args.groups, knots=args.knots)
+    session = open_session(args.data, args.outcome, args.event, args.exclude, args.log, settings)
+    ReviewApp(session).run()
+    return 0

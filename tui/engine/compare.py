@@ -110,6 +110,9 @@ def fit_candidate(
         fit = fit_on_counts(learned.recoding, counts)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
         return FormFit(candidate.label, candidate.kind, None, 0, "failed", notes=(str(problem),))
+    if fit.rank_deficient:
+        note = "design columns collinear: too few distinct values for this form"
+        return FormFit(candidate.label, candidate.kind, None, 0, "failed", notes=(note,))
     status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
     notes: list[str] = []
     if learned.searched and candidate.kind in ("hinge", "indicator"):
@@ -121,8 +124,6 @@ def fit_candidate(
     minority = min(counts.total_events, counts.rows - counts.total_events)
     if minority < EVENTS_PER_PARAMETER * learned.df:
         notes.append(NOTE_FEW_EVENTS)
-    if fit.rank_deficient:
-        notes.append("design columns collinear")
     aic, bic = fit.aic(learned.df), fit.bic(learned.df)
     lr_chi2 = lr_df = lr_p = None
     delta = float("nan")

@@ -12,10 +12,13 @@ overhead per fit, and a scan makes thousands of small fits.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
+from scipy.linalg import lapack
 
 # A fitted linear predictor beyond this puts a probability within 1e-13 of 0 or 1:
 # only a separated (or quasi-separated) design drives a maximum likelihood fit there.
@@ -67,12 +70,67 @@ class LogisticFit:
         return design @ self.coef
 
 
-def _log1pexp(eta: np.ndarray) -> np.ndarray:
-    return np.logaddexp(0.0, eta)
+_BLAS_CONTROL: list[object] = []  # the threadpoolctl controller once looked up, or None
+
+
+def _blas_controller() -> object | None:
+    if not _BLAS_CONTROL:
+        try:
+            from threadpoolctl import ThreadpoolController
+
+            _BLAS_CONTROL.append(ThreadpoolController())
+        except ImportError:
+            _BLAS_CONTROL.append(None)
+    return _BLAS_CONTROL[0]
+
+
+@contextlib.contextmanager
+def one_blas_thread() -> Iterator[None]:
+    """Run the enclosed fits with a single BLAS thread.
+
+    The fits are small matrix-vector steps: past a few thousand design rows OpenBLAS
+    splits them over threads, and the hand-offs cost more than they save (nearly twice the
+    time for a 40,000-row exact table here), worse still when every core already runs a scan
+    worker. Uses threadpoolctl when it is installed; without it, nothing changes. The
+    limit is process-wide: enter it from one thread at a time.
+    """
+    controller = _blas_controller()
+    if controller is None:
+        yield
+        return
+    with controller.limit(limits=1, user_api="blas"):  # type: ignore[attr-defined]
+        yield
 
 
 def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> float:
-    return float(np.sum(events * eta - trials * _log1pexp(eta)))
+    """Bernoulli log-likelihood summed over the rows behind each design row."""
+    return float(events @ eta - trials @ np.logaddexp(0.0, eta))
+
+
+def _column_scaling(design: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Centre (weighted mean) and scale (weighted sd) of each non-intercept column,
+    all columns at once."""
+    m, p = design.shape
+    wsum = float(trials.sum())
+    if p == 1 or m == 0 or wsum <= 0:
+        return np.zeros(p), np.ones(p)
+    # One contiguous row per column: reductions along a row are several times faster than
+    # down the strided columns of the design.
+    cols = np.ascontiguousarray(design[:, 1:].T)
+    # Divide by the largest magnitude first so that squares of 1e200 cannot overflow.
+    big = np.abs(cols).max(axis=1)
+    if not big.all():  # an all-zero column keeps centre 0 and scale 1
+        centre, scale = np.zeros(p), np.ones(p)
+        used = np.flatnonzero(big) + 1
+        inner_centre, inner_scale = _column_scaling(design[:, np.r_[0, used]], trials)
+        centre[used], scale[used] = inner_centre[1:], inner_scale[1:]
+        return centre, scale
+    col = cols / big[:, None]
+    c = (col @ trials) / wsum
+    s = np.sqrt((np.square(col - c[:, None]) @ trials) / wsum)
+    centre = np.concatenate(([0.0], c * big))
+    scale = np.concatenate(([1.0], np.where(s > 0, s * big, big)))
+    return centre, scale
 
 
 def fit_logistic(
@@ -88,40 +146,37 @@ def fit_logistic(
     (trials may be weights). Columns are centred and scaled inside the solver so that
     magnitudes such as 1e200 or x**3 do not spoil the Newton steps.
     """
+    # A scan makes thousands of these fits on a few hundred rows each, where the count of
+    # numpy calls, not arithmetic, sets the time: hence the terse, call-sparing steps.
     design = np.asarray(design, dtype=float)
     events = np.asarray(events, dtype=float)
     trials = np.asarray(trials, dtype=float)
     m, p = design.shape
     nobs = float(trials.sum())
-    if not np.all(np.isfinite(design)):
+    if m == 0:
+        raise ValueError("no rows to fit")
+    if not np.isfinite(design).all():
         raise ValueError("design holds non-finite values")
 
-    # Rescale: z = (design - centre) / scale for non-intercept columns.
-    centre = np.zeros(p)
-    scale = np.ones(p)
-    for j in range(1, p):
-        # Divide by the largest magnitude first so that squares of 1e200 cannot overflow.
-        big = float(np.max(np.abs(design[:, j]))) if m else 0.0
-        if big == 0 or nobs <= 0:
-            continue
-        col = design[:, j] / big
-        c = float(np.average(col, weights=trials))
-        s = float(np.sqrt(np.average((col - c) ** 2, weights=trials)))
-        centre[j] = c * big
-        scale[j] = s * big if s > 0 else big
+    centre, scale = _column_scaling(design, trials)
     z = (design - centre) / scale
     z[:, 0] = 1.0
-    if not np.all(np.isfinite(z)):
+    if not np.isfinite(z).all():
         raise ValueError("design columns out of floating-point range")
 
-    # Drop linearly dependent columns (they get coefficient 0) and say so.
-    q, r = np.linalg.qr(z * np.sqrt(np.maximum(trials, 0))[:, None])
-    keep = np.abs(np.diag(r)) > 1e-9 * max(1.0, float(np.abs(np.diag(r)).max(initial=0.0)))
+    # Drop linearly dependent columns (they get coefficient 0) and say so. Only R of the
+    # QR factorisation is needed; LAPACK's dgeqrf leaves it in the upper triangle.
+    packed = lapack.dgeqrf(z * np.sqrt(np.maximum(trials, 0))[:, None])[0]
+    diag = np.abs(np.diagonal(packed))
+    keep = np.zeros(p, dtype=bool)  # beyond the rows' count a column cannot be independent
+    keep[: diag.size] = diag > 1e-9 * max(1.0, float(diag.max(initial=0.0)))
     keep[0] = True
     rank_deficient = not bool(keep.all())
-    zk = z[:, keep]
+    zk = z[:, keep] if rank_deficient else z
+    zt = np.ascontiguousarray(zk.T)
 
-    pbar = (events.sum() + 0.5) / (nobs + 1.0)
+    total_events = float(events.sum())
+    pbar = (total_events + 0.5) / (nobs + 1.0)
     beta = np.zeros(zk.shape[1])
     beta[0] = np.log(pbar / (1 - pbar))
     if start is not None and not rank_deficient and start.shape == (p,):
@@ -129,33 +184,39 @@ def fit_logistic(
         b = start * scale
         b[0] = start[0] + float(np.sum(start[1:] * centre[1:]))
         beta = b
-    eta = zk @ beta
-    ll = _loglik(eta, events, trials)
+        eta = zk @ beta
+        ll = _loglik(eta, events, trials)
+    else:
+        # The usual start, the overall log-odds, is the same on every row.
+        eta = np.full(zk.shape[0], beta[0])
+        ll = float(beta[0] * total_events - nobs * np.logaddexp(0.0, beta[0]))
     converged = False
     for _ in range(_MAX_ITER):
-        mu = 0.5 * (1.0 + np.tanh(0.5 * eta))  # stable expit
-        w = trials * mu * (1.0 - mu)
-        grad = zk.T @ (events - trials * mu)
-        hess = (zk * w[:, None]).T @ zk
-        try:
-            step = np.linalg.solve(hess, grad)
-        except np.linalg.LinAlgError:
+        mu = special.expit(eta)
+        fitted = trials * mu
+        grad = zt @ (events - fitted)
+        hess = (zt * (fitted * (1.0 - mu))) @ zk
+        # LAPACK's dgesv, as np.linalg.solve calls it, without its per-call checks.
+        _, _, step, singular = lapack.dgesv(hess, grad)
+        if singular:
             step = np.linalg.lstsq(hess, grad, rcond=None)[0]
         t = 1.0
+        floor = ll - 1e-12 * max(1.0, abs(ll))
         for _halving in range(40):
             new_beta = beta + t * step
             new_eta = zk @ new_beta
             new_ll = _loglik(new_eta, events, trials)
-            if new_ll >= ll - 1e-12 * max(1.0, abs(ll)):
+            if new_ll >= floor:
                 break
             t *= 0.5
         gain = new_ll - ll
         beta, eta, ll = new_beta, new_eta, new_ll
-        if abs(gain) <= tol * (abs(ll) + 0.1) and float(np.max(np.abs(t * step))) < 1e-6:
-            converged = True
-            break
-        if abs(gain) <= tol * (abs(ll) + 0.1) and float(np.max(np.abs(eta))) > _SEPARATION_ETA:
-            break  # creeping towards infinity: separation, stop here
+        if abs(gain) <= tol * (abs(ll) + 0.1):
+            if t * float(np.abs(step).max()) < 1e-6:
+                converged = True
+                break
+            if float(np.abs(eta).max()) > _SEPARATION_ETA:
+                break  # creeping towards infinity: separation, stop here
 
     pure = (events <= 0) | (events >= trials)
     separated = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
@@ -182,4 +243,6 @@ def lr_test(restricted: LogisticFit, full: LogisticFit, df: int) -> tuple[float,
     chi2 = max(0.0, 2.0 * (full.llf - restricted.llf))
     if df <= 0:
         return chi2, float("nan")
-    return chi2, float(stats.chi2.sf(chi2, df))
+    # chdtrc is the chi-square upper tail that scipy.stats.chi2.sf itself calls; importing
+    # scipy.stats would add a second to every start of the command and of a worker.
+    return chi2, float(special.chdtrc(df, chi2))

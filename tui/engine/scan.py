@@ -129,9 +129,11 @@ def scan_counts(
 ) -> tuple[ColumnScan, ComparisonTable | None]:
     """Score one column from its reduced counts (q-value left for ``rank``)."""
     n = int(round(counts.rows))
-    distinct = counts.distinct
-    minimum = float(counts.x[0]) if distinct else None
-    maximum = float(counts.x[-1]) if distinct else None
+    # Profile figures of the column itself: a binned column holds fewer x positions than
+    # it has values, and its first and last bin means lie inside its range.
+    distinct = counts.distinct_values
+    minimum = counts.minimum
+    maximum = counts.maximum
     flags = F.profile_flags(rows, n, distinct, nonfinite, integer_valued, minimum)
     base = ColumnScan(
         column=column,
@@ -152,7 +154,7 @@ def scan_counts(
         maximum=maximum,
         exact=counts.exact,
     )
-    if distinct <= 2 or counts.total_events == 0 or counts.total_events == counts.rows:
+    if counts.distinct <= 2 or counts.total_events == 0 or counts.total_events == counts.rows:
         return base, None
     table = compare_forms(counts, groups=settings.groups, knots=settings.knots)
     linear = table.linear
@@ -185,6 +187,60 @@ def scan_counts(
     )
 
 
+@dataclass(frozen=True)
+class ReducedColumn:
+    """One column ready to score: its counts and what the flags need from its rows.
+
+    Small (a few thousand numbers at most), so it is cheap to hand to another process.
+    """
+
+    counts: ReducedCounts
+    """Counts per distinct value or per bin."""
+    rows: int
+    """Rows with an outcome."""
+    nonfinite: int
+    """Rows holding +inf or -inf."""
+    integer_valued: bool
+    """Every finite value is a whole number (and there is at least one)."""
+
+
+def reduce_for_scan(
+    x: np.ndarray, y: np.ndarray, settings: ScanSettings = ScanSettings()
+) -> ReducedColumn:
+    """Reduce one numeric column (NaN = missing, ±inf counted) against a 0/1 outcome."""
+    x = np.asarray(x, dtype=float)
+    nonfinite = int(np.isinf(x).sum())
+    counts = reduce_column(x, y, max_levels=settings.max_levels)
+    return ReducedColumn(counts, int(x.size), nonfinite, _whole_numbers(x, counts))
+
+
+def _whole_numbers(x: np.ndarray, counts: ReducedCounts) -> bool:
+    """Every finite value is a whole number (and there is one)."""
+    if counts.exact:  # exact counts hold every distinct value: checking them checks all
+        return bool(counts.x.size) and bool(np.all(np.floor(counts.x) == counts.x))
+    # A binned column has thousands of values: its first few usually settle it.
+    head = x[:1000]
+    head = head[np.isfinite(head)]
+    if np.any(np.floor(head) != head):
+        return False
+    finite = x[np.isfinite(x)]
+    return bool(finite.size) and bool(np.all(np.floor(finite) == finite))
+
+
+def scan_reduced(
+    column: str, reduced: ReducedColumn, settings: ScanSettings = ScanSettings()
+) -> tuple[ColumnScan, ComparisonTable | None]:
+    """Score a column from ``reduce_for_scan`` (q-value left for ``rank``)."""
+    return scan_counts(
+        column,
+        reduced.counts,
+        reduced.rows,
+        reduced.nonfinite,
+        reduced.integer_valued,
+        settings,
+    )
+
+
 def scan_column(
     column: str,
     x: np.ndarray,
@@ -192,12 +248,7 @@ def scan_column(
     settings: ScanSettings = ScanSettings(),
 ) -> tuple[ColumnScan, ComparisonTable | None]:
     """Score one numeric column against a 0/1 outcome (NaN = missing, ±inf flagged)."""
-    x = np.asarray(x, dtype=float)
-    nonfinite = int(np.isinf(x).sum())
-    finite = x[np.isfinite(x)]
-    integer_valued = bool(finite.size) and bool(np.all(np.floor(finite) == finite))
-    counts = reduce_column(x, y, max_levels=settings.max_levels)
-    return scan_counts(column, counts, x.size, nonfinite, integer_valued, settings)
+    return scan_reduced(column, reduce_for_scan(x, y, settings), settings)
 
 
 def rank(scans: Iterable[ColumnScan]) -> list[ColumnScan]:

@@ -1,18 +1,29 @@
-"""A data file opened for scanning: outcome coded, columns profiled, values on demand."""
+"""A data file opened for scanning: outcome coded, columns profiled, values on demand.
+
+Parquet and Feather files store each column apart, so they are opened one column at a
+time (``ColumnarDataset``): the outcome is read once, then each column when it is asked
+for, and memory stays near one column plus the outcome however wide the file. Other
+formats are read whole (``Dataset``).
+"""
 
 from __future__ import annotations
 
+import functools
 import hashlib
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import CodedOutcome, code_outcome
-from tui.intake.profile import ColumnProfile, numeric_values, profile_frame
-from tui.intake.readers import read_table
+from tui.intake.profile import ColumnProfile, numeric_values, profile_column, profile_frame
+from tui.intake.readers import list_columns, read_column, read_table
+
+COLUMNAR = frozenset({".parquet", ".feather"})
+"""Extensions opened one column at a time."""
 
 
 @dataclass(frozen=True)
@@ -37,28 +48,190 @@ class Dataset:
         """Names of the numeric columns to scan."""
         return [p.name for p in self.numeric]
 
+    @property
+    def column_names(self) -> list[str]:
+        """Every column of the file, in file order."""
+        return [str(name) for name in self.frame.columns]
+
+    @property
+    def rows(self) -> int:
+        """Rows with a present outcome."""
+        return len(self.frame)
+
     def values(self, column: str) -> np.ndarray:
         """Float values of one column for the kept rows (NaN for missing or ±inf)."""
         return numeric_values(self.frame[column])
 
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
-        series = self.frame[column]
-        if series.dtype == bool:
-            series = series.astype(float)
-        return pd.to_numeric(series, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+        return _raw_floats(self.frame[column])
+
+
+def _raw_floats(series: pd.Series) -> np.ndarray:
+    if series.dtype == bool:
+        series = series.astype(float)
+    return pd.to_numeric(series, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+
+
+class ColumnarDataset:
+    """A Parquet or Feather file opened one column at a time.
+
+    Offers what ``Dataset`` offers. Opening reads the schema and the outcome; a column's
+    values are read from the file each time they are asked for, and only the kept rows are
+    returned. ``numeric`` profiles read every numeric column once, when first asked for;
+    ``frame`` reads the whole file, when first asked for, and keeps it.
+    """
+
+    def __init__(
+        self,
+        path: Path,
+        outcome: CodedOutcome,
+        numeric_names: Sequence[str],
+        skipped: Sequence[ColumnProfile],
+        excluded: Sequence[str],
+        column_names: Sequence[str],
+    ) -> None:
+        self.path = path
+        """The file read (never modified)."""
+        self.outcome = outcome
+        """The coded outcome for the rows that have it."""
+        self.skipped = tuple(skipped)
+        """Non-numeric columns, listed, not scanned."""
+        self.excluded = tuple(excluded)
+        """Columns left out on request."""
+        self._numeric_names = list(numeric_names)
+        self._column_names = list(column_names)
+
+    @property
+    def columns(self) -> list[str]:
+        """Names of the numeric columns to scan (from the file's schema, nothing read)."""
+        return list(self._numeric_names)
+
+    @property
+    def column_names(self) -> list[str]:
+        """Every column of the file, in file order."""
+        return list(self._column_names)
+
+    @property
+    def rows(self) -> int:
+        """Rows with a present outcome."""
+        return int(self.outcome.y.size)
+
+    @functools.cached_property
+    def numeric(self) -> tuple[ColumnProfile, ...]:
+        """Profiles of the numeric columns (reads each of them once, one at a time)."""
+        return tuple(profile_column(self._kept(name), name) for name in self._numeric_names)
+
+    @functools.cached_property
+    def frame(self) -> pd.DataFrame:
+        """Every column for the rows with an outcome: reads the whole file into memory."""
+        return read_table(self.path).loc[self.outcome.keep].reset_index(drop=True)
+
+    def values(self, column: str) -> np.ndarray:
+        """Float values of one column for the kept rows (NaN for missing or ±inf)."""
+        return numeric_values(self._kept(column))
+
+    def raw_values(self, column: str) -> np.ndarray:
+        """Float values with ±inf kept (the engine counts them as non-finite)."""
+        return _raw_floats(self._kept(column))
+
+    def _kept(self, column: str) -> pd.Series:
+        series = read_column(self.path, column)
+        keep = self.outcome.keep
+        if keep.all():
+            return series
+        return series[keep].reset_index(drop=True)
 
 
 def open_dataset(
     path: str | Path, outcome: str, event: str | None = None, exclude: Sequence[str] = ()
+) -> Dataset | ColumnarDataset:
+    """Open a file, code its outcome (dropping rows where it is missing) and profile it.
+
+    Parquet and Feather files are opened one column at a time (``ColumnarDataset``);
+    other formats are read whole (``Dataset``).
+    """
+    path = Path(path)
+    if path.suffix.lower() in COLUMNAR:
+        return open_columnar(path, outcome, event, exclude)
+    return open_whole(path, outcome, event, exclude)
+
+
+def open_whole(
+    path: str | Path, outcome: str, event: str | None = None, exclude: Sequence[str] = ()
 ) -> Dataset:
-    """Read a file, code its outcome (dropping rows where it is missing) and profile it."""
+    """Read the whole file, code its outcome and profile every column."""
     path = Path(path)
     frame = read_table(path)
     coded = code_outcome(frame, outcome, event)
     kept = frame.loc[coded.keep].reset_index(drop=True)
     numeric, skipped = profile_frame(kept, outcome, exclude)
     return Dataset(path, kept, coded, tuple(numeric), tuple(skipped), tuple(exclude))
+
+
+def open_columnar(
+    path: str | Path, outcome: str, event: str | None = None, exclude: Sequence[str] = ()
+) -> ColumnarDataset:
+    """Open a Parquet or Feather file one column at a time.
+
+    Reads the schema and the outcome column; columns whose stored type is a number or a
+    boolean count as numeric without being read. Any other column is read once to
+    profile it, so it is judged numeric or not exactly as when the whole file is read.
+    """
+    path = Path(path)
+    names = list_columns(path)
+    header = pd.DataFrame(columns=names)
+    if outcome not in names or names.count(outcome) > 1:
+        code_outcome(header, outcome, event)  # raises the same message as a whole read
+    coded = code_outcome(read_column(path, outcome).to_frame(outcome), outcome, event)
+    profile_frame(header, outcome, exclude)  # names repeated or excluded names unknown
+    stored = _stored_types(path)
+    numeric: list[str] = []
+    skipped: list[ColumnProfile] = []
+    for name in names:
+        if name == outcome or name in exclude:
+            continue
+        if _numeric_type(stored.get(name)):
+            numeric.append(name)
+            continue
+        series = read_column(path, name)
+        profile = profile_column(series[coded.keep].reset_index(drop=True), name)
+        if profile.numeric:
+            numeric.append(name)
+        else:
+            skipped.append(profile)
+    return ColumnarDataset(path, coded, numeric, skipped, exclude, names)
+
+
+def _stored_types(path: Path) -> dict[str, Any]:
+    """Arrow type of each column as stored; empty when the schema cannot say cheaply
+    (every column is then read once to profile it)."""
+    import pyarrow as pa
+
+    try:
+        if path.suffix.lower() == ".parquet":
+            import pyarrow.parquet as pq
+
+            schema = pq.read_schema(path)
+        else:
+            with pa.memory_map(str(path), "r") as source:
+                schema = pa.ipc.open_file(source).schema
+    except (OSError, pa.ArrowException):
+        return {}
+    return {field.name: field.type for field in schema}
+
+
+def _numeric_type(arrow_type: Any) -> bool:
+    """Integer, floating-point and boolean columns come back numeric from every reader."""
+    if arrow_type is None:
+        return False
+    import pyarrow as pa
+
+    return bool(
+        pa.types.is_integer(arrow_type)
+        or pa.types.is_floating(arrow_type)
+        or pa.types.is_boolean(arrow_type)
+    )
 
 
 def file_sha256(path: str | Path) -> str:

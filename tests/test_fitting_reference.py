@@ -77,3 +77,16 @@ def test_collinear_design_is_reported():
     y = (np.arange(50) % 3 == 0).astype(float)
     fit = fit_logistic(np.column_stack([np.ones(50), x, 2 * x]), y, np.ones(50))
     assert fit.rank_deficient and not fit.ok
+
+
+def test_long_tail_with_extreme_log_odds_is_a_fit_not_separation(rng):
+    # A real slope over a long tail puts |log-odds| above 30 at the far rows; the maximum
+    # exists (statsmodels converges to the same estimate), so this is no separation.
+    x = np.r_[rng.lognormal(0, 1.0, 3000), [150.0, 180.0, 220.0]]
+    y = (rng.random(x.size) < 1 / (1 + np.exp(-(-2 + 0.3 * x)))).astype(float)
+    design = np.column_stack([np.ones(x.size), x])
+    fit = fit_logistic(design, y, np.ones_like(y))
+    ref = sm.GLM(y, design, family=sm.families.Binomial()).fit()
+    assert np.max(np.abs(design @ fit.coef)) > 30
+    assert fit.ok
+    np.testing.assert_allclose(fit.coef, ref.params, rtol=1e-6)

@@ -145,7 +145,7 @@ class ReviewSession:
         profile = self.profile_of(column)
         if profile.minimum is None or profile.maximum is None:
             raise ValueError(f"{column} has no finite values")
-        taken = {str(c) for c in self.dataset.frame.columns}
+        taken = {str(c) for c in self.dataset.column_names}
         taken |= self.log.without(column).output_names()
         decision = Decision.make(
             column,

@@ -24,6 +24,7 @@ from scipy.linalg import lapack
 # only a separated (or quasi-separated) design drives a maximum likelihood fit there.
 _SEPARATION_ETA = 30.0
 _MAX_ITER = 100
+_CREEP_STEPS = 5
 
 
 @dataclass(frozen=True)
@@ -191,6 +192,7 @@ def fit_logistic(
         eta = np.full(zk.shape[0], beta[0])
         ll = float(beta[0] * total_events - nobs * np.logaddexp(0.0, beta[0]))
     converged = False
+    creeping = 0
     for _ in range(_MAX_ITER):
         mu = special.expit(eta)
         fitted = trials * mu
@@ -211,17 +213,22 @@ def fit_logistic(
             t *= 0.5
         gain = new_ll - ll
         beta, eta, ll = new_beta, new_eta, new_ll
+        moved = t * float(np.abs(step).max())
         if abs(gain) <= tol * (abs(ll) + 0.1):
-            if t * float(np.abs(step).max()) < 1e-6:
+            if moved < 1e-6:
                 converged = True
                 break
-            if float(np.abs(eta).max()) > _SEPARATION_ETA:
-                break  # creeping towards infinity: separation, stop here
+            # Gains vanish while the steps do not: coefficients drifting to infinity.
+            creeping = creeping + 1 if moved > 1e-3 else 0
+            if creeping >= _CREEP_STEPS and float(np.abs(eta).max()) > _SEPARATION_ETA:
+                break
 
+    # Separation: no maximum exists, so Newton never settles, and the fitted log-odds run off
+    # at rows that are all events or all non-events. A long tail can give |log-odds| > 30 at
+    # a converged fit; that is a legitimate fit, not separation.
     pure = (events <= 0) | (events >= trials)
-    separated = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
-    if separated:
-        converged = False
+    extreme = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
+    separated = extreme and not converged
 
     coef_scaled = np.zeros(p)
     coef_scaled[keep] = beta

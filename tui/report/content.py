@@ -17,7 +17,7 @@ from tui.engine.groups import logit_groups
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank
-from tui.intake.dataset import Dataset, file_sha256
+from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.errors import InputProblem
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
@@ -127,7 +127,7 @@ def _withheld(count: float, min_cell: int, safe: bool) -> str:
     return f"<{min_cell}" if count < min_cell else "withheld"
 
 
-def _section(data: Dataset, decision: Decision, min_cell: int) -> DecisionSection:
+def _section(data: Dataset | ColumnarDataset, decision: Decision, min_cell: int) -> DecisionSection:
     x = data.values(decision.column)
     counts = reduce_column(x, data.outcome.y)
     groups_n = int(decision.evidence.get("groups", 4))
@@ -176,13 +176,16 @@ def _section(data: Dataset, decision: Decision, min_cell: int) -> DecisionSectio
 
 
 def build_report(
-    log: RecodingLog, data: Dataset, min_cell: int = 10, now: datetime | None = None
+    log: RecodingLog,
+    data: Dataset | ColumnarDataset,
+    min_cell: int = 10,
+    now: datetime | None = None,
 ) -> ReportContent:
     """Recompute the evidence for every decision in ``log`` from ``data``."""
     if min_cell < 1:
         raise InputProblem(f"--min-cell must be at least 1, not {min_cell}")
     needed = [d.column for d in log.decisions]
-    missing = [c for c in needed if c not in data.frame.columns]
+    missing = [c for c in needed if c not in data.column_names]
     if missing:
         raise InputProblem(
             f"{data.path.name} lacks column(s) the log recodes: {', '.join(missing)}"
@@ -199,7 +202,7 @@ def build_report(
     y = data.outcome
     fingerprint = {
         "file": data.path.name,
-        "rows with an outcome": str(len(data.frame)),
+        "rows with an outcome": str(data.rows),
         "rows dropped for a missing outcome": str(y.dropped_missing),
         "sha256": sha,
         "same file as the log's training data": "yes" if sha == log.source.sha256 else "no",

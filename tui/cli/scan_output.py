@@ -25,6 +25,8 @@ FIELDS = (
     "best_form",
     "delta_aic",
     "flags",
+    "adjusted_for",
+    "weight",
 )
 
 
@@ -39,6 +41,7 @@ def as_csv(scans: Sequence[ColumnScan]) -> str:
     for s in scans:
         record = s.as_record()
         record["flags"] = ";".join(s.flags)
+        record["adjusted_for"] = ";".join(s.adjusted_for)
         writer.writerow({k: "" if v is None else v for k, v in record.items()})
     return out.getvalue()
 

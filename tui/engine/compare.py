@@ -54,13 +54,24 @@ class FormFit:
     """Cautions for this row."""
     fit: LogisticFit | None = None
     """The fit, for drawing the curve."""
+    covariate_level: float = 0.0
+    """Adjusted checks: the covariates' contribution to the log-odds at their means."""
+    covariate_df: int = 0
+    """Adjusted checks: covariate columns between the intercept and the form's columns."""
+
+    @property
+    def form_coef(self) -> np.ndarray:
+        """Coefficients of the form's own output columns (intercept and covariates left out)."""
+        if self.fit is None:
+            return np.zeros(0)
+        return self.fit.coef[1 + self.covariate_df :]
 
     def log_odds(self, x: np.ndarray) -> np.ndarray:
-        """Fitted log-odds of this form at x (NaN when there is no fit)."""
+        """Fitted log-odds of this form at x, covariates at their means (NaN without a fit)."""
         if self.fit is None or self.recoding is None:
             return np.full(np.shape(x), np.nan)
-        design = np.column_stack([np.ones(np.size(x)), self.recoding.apply(np.asarray(x))])
-        return self.fit.linear_predictor(design)
+        basis = self.recoding.apply(np.asarray(x, dtype=float))
+        return self.fit.coef[0] + self.covariate_level + basis @ self.form_coef
 
 
 @dataclass(frozen=True)
@@ -124,7 +135,9 @@ def fit_candidate(
     minority = min(counts.total_events, counts.rows - counts.total_events)
     if minority < EVENTS_PER_PARAMETER * learned.df:
         notes.append(NOTE_FEW_EVENTS)
-    aic, bic = fit.aic(learned.df), fit.bic(learned.df)
+    # Covariates are estimated in every form alike: they count in AIC/BIC, not in the LR df.
+    aic = fit.aic(learned.df + counts.covariate_df)
+    bic = fit.bic(learned.df + counts.covariate_df)
     lr_chi2 = lr_df = lr_p = None
     delta = float("nan")
     if linear is not None and linear.fit is not None:
@@ -149,24 +162,36 @@ def fit_candidate(
         lr_p=lr_p,
         notes=tuple(notes),
         fit=fit,
+        covariate_level=_covariate_level(fit, counts),
+        covariate_df=counts.covariate_df,
     )
+
+
+def _covariate_level(fit: LogisticFit, counts: ReducedCounts) -> float:
+    c = counts.covariate_df
+    if c == 0:
+        return 0.0
+    return float(counts.covariate_means @ fit.coef[1 : 1 + c])
 
 
 def box_tidwell(counts: ReducedCounts, linear: LogisticFit | None) -> BoxTidwell | None:
     """Box-Tidwell on (shifted) x; None without a usable linear fit."""
-    if linear is None or not linear.ok or counts.distinct < 3:
+    if linear is None or not linear.ok or counts.distinct_values < 3:
         return None
     shift = learn_shift(counts)
     z = counts.x + shift
-    ones = np.ones(z.size)
+    base = np.ones((z.size, 1))
+    if counts.covariates is not None:  # adjusted check: covariates in both models
+        base = np.column_stack([base, counts.covariates])
+    at = base.shape[1]  # column of z in both designs
     try:
-        restricted = fit_logistic(np.column_stack([ones, z]), counts.events, counts.trials)
-        full = fit_logistic(np.column_stack([ones, z, z * np.log(z)]), counts.events, counts.trials)
+        restricted = fit_logistic(np.column_stack([base, z]), counts.events, counts.trials)
+        full = fit_logistic(np.column_stack([base, z, z * np.log(z)]), counts.events, counts.trials)
     except ValueError:
         return None
     chi2, p = lr_test(restricted, full, 1)
-    beta = restricted.coef[1]
-    power = 1.0 + full.coef[2] / beta if beta != 0 else float("nan")
+    beta = restricted.coef[at]
+    power = 1.0 + full.coef[at + 1] / beta if beta != 0 else float("nan")
     return BoxTidwell(chi2, p, float(power), shift)
 
 

@@ -47,6 +47,20 @@ class ReducedCounts:
     """Smallest value of the column; None means ``x[0]`` (always so when exact)."""
     high: float | None = None
     """Largest value of the column; None means ``x[-1]`` (always so when exact)."""
+    covariates: np.ndarray | None = None
+    """Adjusted checks only: covariate design columns, one row per x (rows not reduced)."""
+
+    @property
+    def covariate_df(self) -> int:
+        """Covariate columns that every fit of this column carries."""
+        return 0 if self.covariates is None else int(self.covariates.shape[1])
+
+    @property
+    def covariate_means(self) -> np.ndarray:
+        """Weighted means of the covariate columns (where fitted curves are drawn)."""
+        if self.covariates is None or self.covariates.shape[1] == 0:
+            return np.zeros(0)
+        return np.average(self.covariates, axis=0, weights=self.trials)
 
     @property
     def rows(self) -> float:
@@ -91,7 +105,45 @@ class ReducedCounts:
 
     def subset(self, mask: np.ndarray) -> ReducedCounts:
         """The rows at the x positions where ``mask`` is true."""
-        return ReducedCounts(self.x[mask], self.trials[mask], self.events[mask], self.exact)
+        cov = None if self.covariates is None else self.covariates[mask]
+        return ReducedCounts(
+            self.x[mask], self.trials[mask], self.events[mask], self.exact, covariates=cov
+        )
+
+
+def rows_with_covariates(
+    x: np.ndarray,
+    y: np.ndarray,
+    covariates: np.ndarray,
+    weights: np.ndarray | None = None,
+) -> ReducedCounts:
+    """Row-level counts for an adjusted check: every complete row kept, sorted by x.
+
+    With covariates the likelihood no longer depends on x alone, so rows cannot be pooled;
+    each row keeps its own covariate values (and weight, as its number of trials).
+    """
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    covariates = np.asarray(covariates, dtype=float).reshape(x.size, -1)
+    ok = np.isfinite(x) & np.all(np.isfinite(covariates), axis=1)
+    w = np.ones(x.size) if weights is None else np.asarray(weights, dtype=float)
+    ok &= w > 0
+    order = np.argsort(x[ok], kind="stable")
+    xs = x[ok][order]
+    ws = w[ok][order]
+    distinct = int(np.unique(xs).size)
+    low = float(xs[0]) if xs.size else None
+    high = float(xs[-1]) if xs.size else None
+    return ReducedCounts(
+        xs,
+        ws,
+        ws * y[ok][order],
+        True,
+        values=distinct,
+        low=low,
+        high=high,
+        covariates=covariates[ok][order],
+    )
 
 
 def weighted_type7_quantile(

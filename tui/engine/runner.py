@@ -26,6 +26,7 @@ from typing import Literal
 
 import numpy as np
 
+from tui.engine.adjust import Adjustment
 from tui.engine.fitting import one_blas_thread
 from tui.engine.scan import ColumnScan, ReducedColumn, ScanSettings, reduce_for_scan, scan_reduced
 
@@ -55,6 +56,7 @@ def scan_columns(
     *,
     workers: int | None = None,
     pool: PoolKind = "process",
+    adjust: Adjustment | None = None,
 ) -> Iterator[ColumnScan]:
     """Scan columns, yielding each result as soon as it is ready (not yet ranked).
 
@@ -70,6 +72,8 @@ def scan_columns(
     (the review app scans from a worker thread), forking is unsafe: processes then come
     from a fork server, ``values_of`` is called from the calling thread only, one column
     at a time, and the workers receive the reduced counts.
+
+    ``adjust`` adds fixed covariates and/or row weights to every fit of every column.
     """
     names = list(columns)
     count = default_workers() if workers is None else max(1, int(workers))
@@ -77,13 +81,15 @@ def scan_columns(
     if count <= 1:
         with one_blas_thread():
             for name in names:
-                yield _score(name, reduce_for_scan(values_of(name), y, settings), settings)
+                reduced = reduce_for_scan(values_of(name), y, settings, adjust, name)
+                yield _score(name, reduced, settings)
         return
     if pool == "thread":
         executor: Executor = ThreadPoolExecutor(count, thread_name_prefix="bendwise-scan")
         with one_blas_thread():  # process-wide, so set here for every thread at once
             futures = (
-                executor.submit(_read_and_score, name, values_of, y, settings) for name in names
+                executor.submit(_read_and_score, name, values_of, y, settings, adjust)
+                for name in names
             )
             yield from _collect(futures, executor, count)
         return
@@ -93,13 +99,13 @@ def scan_columns(
     if context.get_start_method() == "fork":
         # Forked workers share this process's memory as it is now: hand them the reader.
         executor = ProcessPoolExecutor(
-            count, context, initializer=_inherit, initargs=(values_of, y, settings)
+            count, context, initializer=_inherit, initargs=(values_of, y, settings, adjust)
         )
         futures = (executor.submit(_scan_named, name) for name in names)
         yield from _collect(futures, executor, count)
         return
     executor = ProcessPoolExecutor(count, context, initializer=_quiet_worker)
-    submitted = _submit_reduced(executor, names, values_of, y, settings, _score_in_worker)
+    submitted = _submit_reduced(executor, names, values_of, y, settings, adjust, _score_in_worker)
     yield from _collect(submitted, executor, count)
 
 
@@ -109,11 +115,15 @@ def _score(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnS
 
 
 def _read_and_score(
-    name: str, values_of: ValuesOf, y: np.ndarray, settings: ScanSettings
+    name: str,
+    values_of: ValuesOf,
+    y: np.ndarray,
+    settings: ScanSettings,
+    adjust: Adjustment | None = None,
 ) -> ColumnScan:
     """Read, reduce and score one column (sorting releases the interpreter lock, so
     threads overlap reading and reducing one column with fitting another)."""
-    return _score(name, reduce_for_scan(values_of(name), y, settings), settings)
+    return _score(name, reduce_for_scan(values_of(name), y, settings, adjust, name), settings)
 
 
 def _score_in_worker(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:
@@ -122,14 +132,16 @@ def _score_in_worker(name: str, reduced: ReducedColumn, settings: ScanSettings) 
         return _score(name, reduced, settings)
 
 
-_INHERITED: tuple[ValuesOf, np.ndarray, ScanSettings] | None = None
+_INHERITED: tuple[ValuesOf, np.ndarray, ScanSettings, Adjustment | None] | None = None
 
 
-def _inherit(values_of: ValuesOf, y: np.ndarray, settings: ScanSettings) -> None:
-    """Worker start (fork): keep the reader, outcome and settings the parent handed over."""
+def _inherit(
+    values_of: ValuesOf, y: np.ndarray, settings: ScanSettings, adjust: Adjustment | None
+) -> None:
+    """Worker start (fork): keep the reader, outcome, settings and covariates handed over."""
     global _INHERITED
     _quiet_worker()
-    _INHERITED = (values_of, y, settings)
+    _INHERITED = (values_of, y, settings, adjust)
 
 
 def _scan_named(name: str) -> ColumnScan:
@@ -145,11 +157,12 @@ def _submit_reduced(
     values_of: ValuesOf,
     y: np.ndarray,
     settings: ScanSettings,
+    adjust: Adjustment | None,
     task: Callable[[str, ReducedColumn, ScanSettings], ColumnScan],
 ) -> Iterator[Future[ColumnScan]]:
     """Read and reduce here, one column at a time; the workers fit."""
     for name in names:
-        reduced = reduce_for_scan(values_of(name), y, settings)
+        reduced = reduce_for_scan(values_of(name), y, settings, adjust, name)
         yield executor.submit(task, name, reduced, settings)
 
 

@@ -14,8 +14,15 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from tui.engine import flags as F
+from tui.engine.adjust import Adjustment
 from tui.engine.compare import ComparisonTable, compare_forms
-from tui.engine.counts import DEFAULT_MAX_LEVELS, ReducedCounts, reduce_column
+from tui.engine.counts import (
+    DEFAULT_MAX_LEVELS,
+    ReducedCounts,
+    reduce_column,
+    rows_with_covariates,
+)
+from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS
 from tui.engine.qvalues import bh_qvalues
 from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
@@ -74,6 +81,10 @@ class ColumnScan:
     """Largest finite value."""
     exact: bool = True
     """Fits used every distinct value (no binning)."""
+    adjusted_for: tuple[str, ...] = ()
+    """Covariates in every fit of this column (empty: one column at a time)."""
+    weight: str | None = None
+    """Weight column used in every fit, if any."""
 
     def as_record(self) -> dict[str, object]:
         """Plain values for JSON/CSV output."""
@@ -95,6 +106,8 @@ class ColumnScan:
             "best_form": self.best_form,
             "delta_aic": num(self.delta_aic),
             "flags": list(self.flags),
+            "adjusted_for": list(self.adjusted_for),
+            "weight": self.weight,
         }
 
 
@@ -112,8 +125,8 @@ def _shape_hint(table: ComparisonTable, counts: ReducedCounts, knots: int) -> st
     if best.kind == "indicator":
         return THRESHOLD
     if best.kind == "hinge":
-        slope_below = best.fit.coef[1]
-        slope_above = slope_below + best.fit.coef[2]
+        slope_below = best.form_coef[0]
+        slope_above = slope_below + best.form_coef[1]
         if min(abs(slope_below), abs(slope_above)) < 0.15 * max(abs(slope_below), abs(slope_above)):
             return THRESHOLD
     return shape
@@ -126,9 +139,14 @@ def scan_counts(
     nonfinite: int,
     integer_valued: bool,
     settings: ScanSettings = ScanSettings(),
+    present: int | None = None,
 ) -> tuple[ColumnScan, ComparisonTable | None]:
-    """Score one column from its reduced counts (q-value left for ``rank``)."""
-    n = int(round(counts.rows))
+    """Score one column from its reduced counts (q-value left for ``rank``).
+
+    ``present`` is the number of rows used (defaults to the counts' total, which is the sum
+    of the weights in a weighted check).
+    """
+    n = int(round(counts.rows)) if present is None else present
     # Profile figures of the column itself: a binned column holds fewer x positions than
     # it has values, and its first and last bin means lie inside its range.
     distinct = counts.distinct_values
@@ -154,9 +172,16 @@ def scan_counts(
         maximum=maximum,
         exact=counts.exact,
     )
-    if counts.distinct <= 2 or counts.total_events == 0 or counts.total_events == counts.rows:
+    if (
+        counts.distinct_values <= 2
+        or counts.total_events == 0
+        or counts.total_events == counts.rows
+    ):
         return base, None
-    table = compare_forms(counts, groups=settings.groups, knots=settings.knots)
+    # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
+    # hinge, indicator); opening the column fits them all.
+    candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
+    table = compare_forms(counts, candidates)
     linear = table.linear
     spline = table.row(f"spline, {settings.knots} knots")
     if any(r.status == "separation" for r in (linear, spline) if r is not None):
@@ -202,21 +227,54 @@ class ReducedColumn:
     """Rows holding +inf or -inf."""
     integer_valued: bool
     """Every finite value is a whole number (and there is at least one)."""
+    present: int | None = None
+    """Rows used in the fits (finite x, weight above zero, covariates complete)."""
+    adjusted_for: tuple[str, ...] = ()
+    """Covariates in every fit."""
+    weight: str | None = None
+    """Weight column, if any."""
 
 
 def reduce_for_scan(
-    x: np.ndarray, y: np.ndarray, settings: ScanSettings = ScanSettings()
+    x: np.ndarray,
+    y: np.ndarray,
+    settings: ScanSettings = ScanSettings(),
+    adjust: Adjustment | None = None,
+    column: str = "",
 ) -> ReducedColumn:
-    """Reduce one numeric column (NaN = missing, ±inf counted) against a 0/1 outcome."""
+    """Reduce one numeric column (NaN = missing, ±inf counted) against a 0/1 outcome.
+
+    With covariates the rows stay rows (``rows_with_covariates``); with weights alone the
+    counts are weighted sums per distinct value, still exact.
+    """
     x = np.asarray(x, dtype=float)
     nonfinite = int(np.isinf(x).sum())
-    counts = reduce_column(x, y, max_levels=settings.max_levels)
-    return ReducedColumn(counts, int(x.size), nonfinite, _whole_numbers(x, counts))
+    if adjust is None:
+        counts = reduce_column(x, y, max_levels=settings.max_levels)
+        return ReducedColumn(counts, int(x.size), nonfinite, _whole_numbers(x, counts))
+    used = np.isfinite(x)
+    if adjust.weights is not None:
+        used &= adjust.weights > 0
+    design = adjust.covariates_for(column)
+    if design is not None:
+        used &= design.complete
+        counts = rows_with_covariates(x, y, design.matrix, adjust.weights)
+    else:
+        counts = reduce_column(x, y, weights=adjust.weights, max_levels=settings.max_levels)
+    return ReducedColumn(
+        counts,
+        int(x.size),
+        nonfinite,
+        _whole_numbers(x, counts),
+        int(used.sum()),
+        adjust.adjusted_for(column),
+        adjust.weight_column,
+    )
 
 
 def _whole_numbers(x: np.ndarray, counts: ReducedCounts) -> bool:
     """Every finite value is a whole number (and there is one)."""
-    if counts.exact:  # exact counts hold every distinct value: checking them checks all
+    if counts.exact and counts.covariates is None:  # every distinct value is in x
         return bool(counts.x.size) and bool(np.all(np.floor(counts.x) == counts.x))
     # A binned column has thousands of values: its first few usually settle it.
     head = x[:1000]
@@ -231,14 +289,18 @@ def scan_reduced(
     column: str, reduced: ReducedColumn, settings: ScanSettings = ScanSettings()
 ) -> tuple[ColumnScan, ComparisonTable | None]:
     """Score a column from ``reduce_for_scan`` (q-value left for ``rank``)."""
-    return scan_counts(
+    result, table = scan_counts(
         column,
         reduced.counts,
         reduced.rows,
         reduced.nonfinite,
         reduced.integer_valued,
         settings,
+        reduced.present,
     )
+    if reduced.adjusted_for or reduced.weight:
+        result = replace(result, adjusted_for=reduced.adjusted_for, weight=reduced.weight)
+    return result, table
 
 
 def scan_column(
@@ -246,9 +308,10 @@ def scan_column(
     x: np.ndarray,
     y: np.ndarray,
     settings: ScanSettings = ScanSettings(),
+    adjust: Adjustment | None = None,
 ) -> tuple[ColumnScan, ComparisonTable | None]:
     """Score one numeric column against a 0/1 outcome (NaN = missing, ±inf flagged)."""
-    return scan_reduced(column, reduce_for_scan(x, y, settings), settings)
+    return scan_reduced(column, reduce_for_scan(x, y, settings, adjust, column), settings)
 
 
 def rank(scans: Iterable[ColumnScan]) -> list[ColumnScan]:

@@ -201,6 +201,8 @@ def design_matrix(recoding: Recoding, x: np.ndarray) -> np.ndarray:
 def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
     """Fit intercept + the recoding's outputs to training counts."""
     design = design_matrix(recoding, counts.x)
+    if counts.covariates is not None:  # adjusted check: intercept, covariates, then the form
+        design = np.column_stack([design[:, :1], counts.covariates, design[:, 1:]])
     if not np.all(np.isfinite(design)):
         raise RecodingError("the form gives non-finite values on the training data")
     return fit_logistic(design, counts.events, counts.trials)

@@ -13,8 +13,8 @@ each side keeps at least a tenth of the rows."""
 
 def cut_candidates(counts: ReducedCounts) -> list[float]:
     """Distinct candidate cut points strictly inside the range of x."""
-    if counts.distinct < 2:
+    if counts.distinct_values < 2:
         return []
-    lo, hi = float(counts.x[0]), float(counts.x[-1])
+    lo, hi = float(counts.x[0]), float(counts.x[-1])  # x is sorted (rows or distinct values)
     values = np.unique(counts.quantile(SEARCH_PERCENTILES))
     return [float(v) for v in values if lo < v <= hi]

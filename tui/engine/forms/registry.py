@@ -41,3 +41,12 @@ def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Cand
         IndicatorCandidate(),
         BandsCandidate(groups),
     ]
+
+
+def triage_candidates(groups: int, knots: int, searched: bool = True) -> list[Candidate]:
+    """Candidates of a scan; without ``searched``, the forms that search many fits (FP2,
+    hinge, indicator) are left out, for row-level adjusted scans."""
+    every = default_candidates(groups, knots)
+    if searched:
+        return every
+    return [c for c in every if c.kind not in ("fp2", "hinge", "indicator")]

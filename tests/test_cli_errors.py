@@ -82,3 +82,29 @@ def test_refuses_to_write_over_the_data(small):
     )
     _one_line_error(out, "overwrite")
     assert small.read_bytes() == before
+
+
+@pytest.mark.parametrize(
+    "options, words",
+    [
+        (["--adjust", "bmx"], "bmx"),
+        (["--adjust", "record_id,wound_infection_30d"], "outcome"),
+        (["--weight", "weight_change_kg"], "negative"),
+        (["--weight", "ward"], "not numeric"),
+        (["--weight", "bmi", "--adjust", "bmi"], "both"),
+        (["--adjust", "age_years", "--weight-kind", "sampling"], "weight-kind"),
+    ],
+)
+def test_bad_adjustment_or_weights(options, words):
+    out = run_cli("scan", COHORT, "--outcome", "wound_infection_30d", *options)
+    _one_line_error(out, words)
+
+
+def test_text_covariate_with_many_levels(tmp_path):
+    frame = pd.DataFrame({
+        "x": range(40), "y": [0, 1] * 20, "site": [f"s{i}" for i in range(40)],
+    })  # fmt: skip
+    path = tmp_path / "sites.csv"
+    frame.to_csv(path, index=False)
+    out = run_cli("scan", str(path), "--outcome", "y", "--adjust", "site")
+    _one_line_error(out, "site", "levels")

@@ -12,14 +12,14 @@ from tui.intake.weights import check_weights
 
 def test_frequency_weights_kept_as_given_and_zero_rows_dropped():
     frame = pd.DataFrame({"w": [1.0, 0.0, 2.5, 3.0]})
-    w = check_weights(frame, "w", "frequency")
+    w = check_weights(frame["w"], "w", "frequency")
     np.testing.assert_array_equal(w.values, [1.0, 2.5, 3.0])
     np.testing.assert_array_equal(w.keep, [True, False, True, True])
     assert w.dropped_zero == 1
 
 
 def test_survey_weights_rescaled_to_mean_one():
-    w = check_weights(pd.DataFrame({"w": [2.0, 4.0, 6.0]}), "w", "survey")
+    w = check_weights(pd.Series([2.0, 4.0, 6.0]), "w", "survey")
     np.testing.assert_allclose(w.values, [0.5, 1.0, 1.5])
 
 
@@ -35,12 +35,12 @@ def test_survey_weights_rescaled_to_mean_one():
 )
 def test_bad_weights_are_refused(values, words):
     with pytest.raises(InputProblem, match=words):
-        check_weights(pd.DataFrame({"w": values}), "w")
+        check_weights(pd.Series(values), "w")
 
 
-def test_unknown_weight_column():
-    with pytest.raises(InputProblem, match="not found"):
-        check_weights(pd.DataFrame({"w": [1.0]}), "wt")
+def test_unknown_weight_kind():
+    with pytest.raises(InputProblem, match="weight kind"):
+        check_weights(pd.Series([1.0]), "w", "sampling")
 
 
 def test_covariates_linear_recoded_and_text():

@@ -57,3 +57,29 @@ def add_fit_options(parser: argparse.ArgumentParser) -> None:
         metavar="K",
         help=f"knots of the scoring spline (3-7, default {DEFAULT_KNOTS})",
     )
+
+
+def add_adjust_options(parser: argparse.ArgumentParser, forms_from_log: bool = False) -> None:
+    """--adjust, --weight and --weight-kind (and --log for covariates' accepted forms)."""
+    parser.add_argument(
+        "--adjust",
+        type=column_list,
+        default=[],
+        metavar="C1,C2",
+        help="covariates in every fit: numeric (linear, or their accepted form in the log) "
+        "or text with at most 10 levels (0/1 indicators)",
+    )
+    parser.add_argument("--weight", metavar="COL", help="row weights used in every fit")
+    parser.add_argument(
+        "--weight-kind",
+        choices=("frequency", "survey"),
+        default="frequency",
+        help="frequency: each row stands for w rows; survey: sampling weights, rescaled "
+        "to average 1 (tests then ignore the sampling design)",
+    )
+    if forms_from_log:
+        parser.add_argument(
+            "--log",
+            metavar="LOG",
+            help="recoding log whose accepted forms the --adjust covariates enter in",
+        )

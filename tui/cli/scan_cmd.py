@@ -6,12 +6,14 @@ import argparse
 import sys
 from pathlib import Path
 
+from tui import recodings
 from tui.atomic import atomic_write_text
-from tui.cli.common import add_data_options, add_fit_options
+from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import as_csv, as_json, as_table
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ScanSettings, rank
+from tui.intake.adjustment import open_adjustment
 from tui.intake.dataset import open_dataset
 from tui.intake.errors import InputProblem
 
@@ -25,6 +27,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     )
     add_data_options(parser)
     add_fit_options(parser)
+    add_adjust_options(parser, forms_from_log=True)
     parser.add_argument(
         "--format", choices=("table", "csv", "json"), default="table", help="output format"
     )
@@ -35,11 +38,15 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     if args.output and Path(args.output).resolve() == Path(args.data).resolve():
         raise InputProblem(f"--output {args.output} would overwrite the data file")
-    data = open_dataset(args.data, args.outcome, args.event, args.exclude)
+    exclude = list(args.exclude) + ([args.weight] if args.weight else [])
+    data = open_dataset(args.data, args.outcome, args.event, exclude)
+    forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
+    adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
     settings = ScanSettings(groups=args.groups, knots=args.knots)
     progress = Progress(len(data.columns), enabled=sys.stderr.isatty())
     results = []
-    for result in scan_columns(data.columns, data.raw_values, data.outcome.y, settings):
+    scans = scan_columns(data.columns, data.raw_values, data.outcome.y, settings, adjust=adjust)
+    for result in scans:
         results.append(result)
         progress.step(result.column)
     progress.close()
@@ -50,7 +57,7 @@ def run(args: argparse.Namespace) -> int:
         text = as_csv(ranked)
     else:
         skipped = [(p.name, f"not numeric: {p.dtype}") for p in data.skipped]
-        text = as_table(ranked, skipped)
+        text = as_table(ranked, skipped, adjust.describe() if adjust else "")
     if args.output:
         atomic_write_text(args.output, text)
     else:

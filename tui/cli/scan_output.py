@@ -56,7 +56,9 @@ def _num(value: float | None, digits: int = 1) -> str:
     return "-" if value is None or not math.isfinite(value) else f"{value:.{digits}f}"
 
 
-def as_table(scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = ()) -> str:
+def as_table(
+    scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (), adjustment: str = ""
+) -> str:
     """A fixed-width table, most non-linear first, then the columns not scanned."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
               "best form", "dAIC", "flags")  # fmt: skip
@@ -95,6 +97,8 @@ def as_table(scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (
         f"{len(scans)} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
         "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
     )
+    if adjustment:
+        lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     for name, why in skipped:
         lines.append(f"not scanned: {name} ({why})")
     lines.append(f"Caution: {SHORT_CAUTION}")

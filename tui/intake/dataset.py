@@ -62,6 +62,10 @@ class Dataset:
         """Float values of one column for the kept rows (NaN for missing or ±inf)."""
         return numeric_values(self.frame[column])
 
+    def series(self, column: str) -> pd.Series:
+        """One column as stored, for the kept rows (text covariates, weights)."""
+        return self.frame[column]
+
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
         return _raw_floats(self.frame[column])
@@ -134,6 +138,10 @@ class ColumnarDataset:
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
         return _raw_floats(self._kept(column))
+
+    def series(self, column: str) -> pd.Series:
+        """One column as stored, for the kept rows (text covariates, weights)."""
+        return self._kept(column)
 
     def _kept(self, column: str) -> pd.Series:
         series = read_column(self.path, column)

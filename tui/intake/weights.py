@@ -37,14 +37,14 @@ class RowWeights:
     """Rows dropped because their weight is zero."""
 
 
-def check_weights(frame: pd.DataFrame, column: str, kind: str = FREQUENCY) -> RowWeights:
+def check_weights(series: pd.Series, column: str, kind: str = FREQUENCY) -> RowWeights:
     """Validate a weight column: numeric, finite, not negative; zero drops the row."""
     if kind not in WEIGHT_KINDS:
         raise InputProblem(f"weight kind must be one of {', '.join(WEIGHT_KINDS)}, not {kind!r}")
-    if column not in frame.columns:
-        raise InputProblem(f"weight column {column!r} not found")
-    raw = pd.to_numeric(frame[column], errors="coerce")
-    if raw.isna().all() and frame[column].notna().any():
+    if series.dtype == bool:
+        series = series.astype(float)
+    raw = pd.to_numeric(series, errors="coerce")
+    if raw.isna().any() and series.notna().sum() > raw.notna().sum():
         raise InputProblem(f"weight column {column!r} is not numeric")
     values = raw.to_numpy(dtype=float, na_value=np.nan)
     bad = ~np.isfinite(values)

@@ -32,6 +32,13 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         metavar="N",
         help=f"smallest count printed; smaller ones show as <N (default {DEFAULT_MIN_CELL})",
     )
+    parser.add_argument("--weight", metavar="COL", help="row weights used in every fit")
+    parser.add_argument(
+        "--weight-kind",
+        choices=("frequency", "survey"),
+        default="frequency",
+        help="frequency: each row stands for w rows; survey: sampling weights",
+    )
     parser.set_defaults(run=run)
 
 
@@ -52,6 +59,8 @@ def run(args: argparse.Namespace) -> int:
             raise InputProblem(f"--output {args.output} would overwrite {source}")
     log = recodings.load(args.log)
     data = open_dataset(args.data, log.outcome_column, event_option(log.event))
-    report = build_report(log, data, min_cell=args.min_cell)
+    report = build_report(
+        log, data, min_cell=args.min_cell, weight=args.weight, weight_kind=args.weight_kind
+    )
     atomic_write_text(target, render(report))
     return 0

@@ -11,12 +11,14 @@ import numpy as np
 
 from tui import __version__
 from tui.cautions import CAUTIONS
+from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit, compare_forms
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
-from tui.engine.scan import Q_LINEAR, ScanSettings, rank
+from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
+from tui.intake.adjustment import open_adjustment
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.errors import InputProblem
 from tui.recodings.model import Decision, RecodingLog
@@ -127,17 +129,28 @@ def _withheld(count: float, min_cell: int, safe: bool) -> str:
     return f"<{min_cell}" if count < min_cell else "withheld"
 
 
-def _section(data: Dataset | ColumnarDataset, decision: Decision, min_cell: int) -> DecisionSection:
+def _section(
+    data: Dataset | ColumnarDataset,
+    decision: Decision,
+    min_cell: int,
+    adjust: Adjustment | None,
+) -> DecisionSection:
     x = data.values(decision.column)
-    counts = reduce_column(x, data.outcome.y)
+    plain = reduce_column(x, data.outcome.y)  # groups show rows, unweighted, unadjusted
     groups_n = int(decision.evidence.get("groups", 4))
     knots_n = int(decision.evidence.get("knots", 4))
+    settings = ScanSettings(groups=groups_n, knots=knots_n)
+    counts = (
+        plain
+        if adjust is None
+        else reduce_for_scan(x, data.outcome.y, settings, adjust, decision.column).counts
+    )
     table = compare_forms(counts, groups=groups_n, knots=knots_n)
     chosen = fit_recoding(decision.recoding, counts, table.linear, title="accepted (as recorded)")
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
 
     lines, withheld = [], 0
-    for i, g in enumerate(logit_groups(counts, groups_n), 1):
+    for i, g in enumerate(logit_groups(plain, groups_n), 1):
         safe = group_is_safe(g.n, g.events, min_cell)
         withheld += 0 if safe else 1
         lines.append(
@@ -180,8 +193,14 @@ def build_report(
     data: Dataset | ColumnarDataset,
     min_cell: int = 10,
     now: datetime | None = None,
+    weight: str | None = None,
+    weight_kind: str = "frequency",
 ) -> ReportContent:
-    """Recompute the evidence for every decision in ``log`` from ``data``."""
+    """Recompute the evidence for every decision in ``log`` from ``data``.
+
+    A decision judged with covariates (``evidence.adjusted_for``) is recomputed with the same
+    covariates, each in its accepted form when the log holds one; ``weight`` weights every fit.
+    """
     if min_cell < 1:
         raise InputProblem(f"--min-cell must be at least 1, not {min_cell}")
     needed = [d.column for d in log.decisions]
@@ -194,11 +213,22 @@ def build_report(
     if not_numeric:
         raise InputProblem(f"column(s) not numeric in {data.path.name}: {', '.join(not_numeric)}")
 
-    scans = rank(scan_columns(data.columns, data.raw_values, data.outcome.y, ScanSettings()))
+    forms = {d.column: d.recoding for d in log.decisions}
+    weighted = open_adjustment(data, log.outcome_column, (), weight, weight_kind)
+    columns = [c for c in data.columns if c != weight]
+    scans = rank(
+        scan_columns(columns, data.raw_values, data.outcome.y, ScanSettings(), adjust=weighted)
+    )
+
+    def adjustment_for(decision: Decision) -> Adjustment | None:
+        covariates = [str(c) for c in decision.evidence.get("adjusted_for", []) or []]
+        return open_adjustment(data, log.outcome_column, covariates, weight, weight_kind, forms)
+
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
     sha = file_sha256(data.path)
     adjust = sorted({str(a) for d in log.decisions for a in d.evidence.get("adjusted_for", [])})
-    weights = sorted({str(d.evidence["weight"]) for d in log.decisions if d.evidence.get("weight")})
+    judged = {str(d.evidence["weight"]) for d in log.decisions if d.evidence.get("weight")}
+    weights = sorted(judged | ({f"{weight} ({weight_kind}), used here"} if weight else set()))
     y = data.outcome
     fingerprint = {
         "file": data.path.name,
@@ -232,7 +262,7 @@ def build_report(
         intro=intro,
         fingerprint=fingerprint,
         summary=summary,
-        decisions=tuple(_section(data, d, min_cell) for d in log.decisions),
+        decisions=tuple(_section(data, d, min_cell, adjustment_for(d)) for d in log.decisions),
         set_aside=tuple((s.column, s.note) for s in log.set_aside),
         cautions=CAUTIONS,
         min_cell=min_cell,

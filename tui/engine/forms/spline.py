@@ -34,19 +34,27 @@ DEFAULT_KNOTS = 4
 
 
 def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
-    """x and the k - 2 restricted cubic columns (rows × (k - 1))."""
+    """x and the k - 2 restricted cubic columns (rows × (k - 1)).
+
+    Computed as (t_k - t_1) * ((x - t) / (t_k - t_1))^3, the same number as
+    (x - t)^3 / (t_k - t_1)^2, so that cubes of values near 1e200 do not overflow.
+    """
     t = np.asarray(knots, dtype=float)
     k = t.size
-    norm = (t[-1] - t[0]) ** 2
+    span = t[-1] - t[0]
     last, penult = t[-1], t[-2]
+
+    def cube(c: float) -> np.ndarray:
+        return np.maximum((x - c) / span, 0.0) ** 3
+
     cols = [x]
     for j in range(k - 2):
         term = (
-            np.maximum(x - t[j], 0.0) ** 3
-            - np.maximum(x - penult, 0.0) ** 3 * (last - t[j]) / (last - penult)
-            + np.maximum(x - last, 0.0) ** 3 * (penult - t[j]) / (last - penult)
+            cube(t[j])
+            - cube(penult) * (last - t[j]) / (last - penult)
+            + cube(last) * (penult - t[j]) / (last - penult)
         )
-        cols.append(term / norm)
+        cols.append(term * span)
     return np.column_stack(cols)
 
 
@@ -80,16 +88,16 @@ class SplineKind(Kind):
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         t = [float(v) for v in params["knots"]]
         last, penult = t[-1], t[-2]
-        norm = sql_number((last - t[0]) ** 2)
+        span = sql_number(last - t[0])
 
-        def cube(c: float) -> str:
-            return f"POWER(GREATEST({x} - {sql_number(c)}, 0.0), 3)"
+        def cube(c: float) -> str:  # the same scaled cube as spline_basis
+            return f"POWER(GREATEST(({x} - {sql_number(c)}) / {span}, 0.0), 3)"
 
         out = [x]
         for j in range(len(t) - 2):
             a = sql_number((last - t[j]) / (last - penult))
             b = sql_number((penult - t[j]) / (last - penult))
-            out.append(f"(({cube(t[j])} - {cube(penult)} * {a} + {cube(last)} * {b}) / {norm})")
+            out.append(f"(({cube(t[j])} - {cube(penult)} * {a} + {cube(last)} * {b}) * {span})")
         return out
 
 

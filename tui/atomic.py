@@ -13,6 +13,9 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
     folder = target.parent if str(target.parent) else Path(".")
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
+        # mkstemp makes the file private (0600); give it the mode a plain write would have
+        # (the old file's, or 0666 less the umask) so colleagues and scoring jobs can read it.
+        os.chmod(tmp, _mode_for(target))
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
             handle.flush()
@@ -31,6 +34,15 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes) -> None:
         pass
     finally:
         os.close(dir_fd)
+
+
+def _mode_for(target: Path) -> int:
+    try:
+        return target.stat().st_mode & 0o7777
+    except OSError:
+        umask = os.umask(0)
+        os.umask(umask)
+        return 0o666 & ~umask
 
 
 def atomic_write_text(path: str | os.PathLike[str], text: str) -> None:

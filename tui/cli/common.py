@@ -48,7 +48,11 @@ def add_data_options(parser: argparse.ArgumentParser) -> None:
 def add_fit_options(parser: argparse.ArgumentParser) -> None:
     """--groups and --knots."""
     parser.add_argument(
-        "--groups", type=group_count, default=4, metavar="G", help="quantile groups (4-20)"
+        "--groups",
+        type=group_count,
+        default=4,
+        metavar="G",
+        help="quantile groups (4-20, default 4)",
     )
     parser.add_argument(
         "--knots",

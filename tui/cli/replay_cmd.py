@@ -7,6 +7,8 @@ import os
 import sys
 from pathlib import Path
 
+import pandas as pd
+
 from tui.intake.errors import InputProblem
 from tui.intake.readers import read_table
 from tui.recodings.load import load
@@ -37,7 +39,33 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         help="refuse values outside a recoding's training range instead of warning",
     )
     parser.add_argument("--force", action="store_true", help="replace OUT if it exists")
+    parser.add_argument(
+        "--rename",
+        action="append",
+        default=[],
+        type=_rename_pair,
+        metavar="OLD=NEW",
+        help="the data call the log's column OLD by the name NEW (repeatable); outputs keep "
+        "the names in the log",
+    )
     parser.set_defaults(run=run)
+
+
+def _rename_pair(text: str) -> tuple[str, str]:
+    old, sep, new = text.partition("=")
+    if not sep or not old.strip() or not new.strip():
+        raise argparse.ArgumentTypeError(f"--rename takes OLD=NEW, not {text!r}")
+    return old.strip(), new.strip()
+
+
+def _apply_renames(frame: pd.DataFrame, renames: list[tuple[str, str]], data: Path) -> pd.DataFrame:
+    """Give renamed columns the log's names for the replay (and back afterwards)."""
+    for old, new in renames:
+        if new not in frame.columns:
+            raise InputProblem(f"--rename {old}={new}: {data} has no column {new!r}")
+        if old in frame.columns:
+            raise InputProblem(f"--rename {old}={new}: {data} already has a column {old!r}")
+    return frame.rename(columns={new: old for old, new in renames})
 
 
 def _same_file(a: Path, b: Path) -> bool:
@@ -60,7 +88,7 @@ def run(args: argparse.Namespace) -> int:
     if out.exists() and not args.force:
         raise InputProblem(f"--output {out} exists; add --force to replace it")
     log = load(log_path)
-    frame = read_table(data)
+    frame = _apply_renames(read_table(data), args.rename, data)
     check_columns(log, frame, str(data))
     excess = range_excess(log, frame)
     if excess and args.strict_range:
@@ -69,6 +97,7 @@ def run(args: argparse.Namespace) -> int:
     for e in excess:
         sys.stderr.write(f"bendwise: warning: {e.describe()}\n")
     result = apply_to_frame(log, frame, str(data))
+    result = result.rename(columns={old: new for old, new in args.rename})
     write_table(result, out)
     added = sum(len(d.outputs) for d in log.decisions)
     sys.stderr.write(

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from tui.cli.common import add_data_options, add_fit_options
+from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.engine.scan import ScanSettings
 
 
@@ -18,6 +18,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     )
     add_data_options(parser)
     add_fit_options(parser)
+    add_adjust_options(parser)  # covariates' forms come from --log, the review's own log
     parser.add_argument(
         "--log",
         metavar="LOG",
@@ -32,6 +33,16 @@ def run(args: argparse.Namespace) -> int:
     from tui.app.session import open_session
 
     settings = ScanSettings(groups=args.groups, knots=args.knots)
-    session = open_session(args.data, args.outcome, args.event, args.exclude, args.log, settings)
+    session = open_session(
+        args.data,
+        args.outcome,
+        args.event,
+        args.exclude,
+        args.log,
+        settings,
+        adjust=args.adjust,
+        weight=args.weight,
+        weight_kind=args.weight_kind,
+    )
     ReviewApp(session).run()
     return 0

@@ -61,7 +61,7 @@ def as_table(
 ) -> str:
     """A fixed-width table, most non-linear first, then the columns not scanned."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
-              "best form", "dAIC", "flags")  # fmt: skip
+              "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
     for i, s in enumerate(scans, 1):
         rows.append(

@@ -109,8 +109,10 @@ def _finite(v: float | None) -> float | None:
 
 
 def _form_line(row: FormFit, accepted: bool) -> FormLine:
+    # Searched forms are shown with what the search found (e.g. "hinge at 27.6").
+    label = row.label if accepted or row.recoding is None else row.recoding.describe()
     return FormLine(
-        label=row.label,
+        label=label,
         df=row.df,
         deviance=row.deviance,
         aic=row.aic,
@@ -146,7 +148,8 @@ def _section(
         else reduce_for_scan(x, data.outcome.y, settings, adjust, decision.column).counts
     )
     table = compare_forms(counts, groups=groups_n, knots=knots_n)
-    chosen = fit_recoding(decision.recoding, counts, table.linear, title="accepted (as recorded)")
+    title = f"accepted: {decision.recoding.describe()}"
+    chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
 
     lines, withheld = [], 0

@@ -5,7 +5,7 @@ from __future__ import annotations
 from html import escape
 
 from tui.report.content import DecisionSection, ReportContent
-from tui.report.numbers import fmt, fmt_p, fmt_x
+from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.svgplot import svg_plot
 
 STYLE = """
@@ -32,8 +32,8 @@ def _decision(d: DecisionSection) -> str:
         f"<p><strong>Accepted form:</strong> {escape(d.form)} — {escape(d.in_words)}.</p>",
         f"<p>Output columns: {escape(', '.join(d.outputs))}. Decided {escape(d.decided_at)}.</p>",
     ]
-    if d.evidence:
-        shown = ", ".join(f"{k} = {v}" for k, v in sorted(d.evidence.items()))
+    shown = evidence_words(d.evidence)
+    if shown:
         parts.append(f"<p>Evidence recorded at decision time: {escape(shown)}.</p>")
     rows = [
         [f.label, str(f.df), fmt(f.deviance), fmt(f.aic), fmt(f.delta_aic), fmt_p(f.lr_p),
@@ -41,7 +41,7 @@ def _decision(d: DecisionSection) -> str:
         for f in d.forms
     ]  # fmt: skip
     classes = ["accepted" if f.accepted else "" for f in d.forms]
-    header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit", "notes"]
+    header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
     parts.append(_table(header, rows, classes))
     grows = [
         [str(g.rank), fmt_x(g.median), g.n, g.events, g.nonevents, fmt(g.logit, 3), fmt(g.se, 3)]

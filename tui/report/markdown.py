@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from tui.report.content import DecisionSection, ReportContent
-from tui.report.numbers import fmt, fmt_p, fmt_x
+from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.textplot import text_plot
 
 
@@ -18,10 +18,13 @@ def _decision(d: DecisionSection) -> list[str]:
     out = [f"### {d.column}", "", f"**Accepted form:** {d.form} — {d.in_words}.", ""]
     out.append(f"Output columns: {', '.join(f'`{o}`' for o in d.outputs)}. Decided {d.decided_at}.")
     out.append("")
-    if d.evidence:
-        shown = ", ".join(f"{k} = {v}" for k, v in sorted(d.evidence.items()))
+    shown = evidence_words(d.evidence)
+    if shown:
         out += [f"Evidence recorded at decision time: {shown}.", ""]
-    out.append("Candidate forms on this data (AIC counts searched cut points and powers):")
+    out.append(
+        "Candidate forms on this data (AIC counts searched cut points and powers; fit status "
+        "is ok, separation, not-converged or failed):"
+    )
     out.append("")
     rows = [
         [
@@ -36,7 +39,8 @@ def _decision(d: DecisionSection) -> list[str]:
         ]
         for f in d.forms
     ]
-    out += _table(["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit", "notes"], rows)
+    header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
+    out += _table(header, rows)
     out += ["", "Quantile groups:", ""]
     grows = [
         [str(g.rank), fmt_x(g.median), g.n, g.events, g.nonevents, fmt(g.logit, 3), fmt(g.se, 3)]

@@ -68,10 +68,23 @@ def write_fleet(folder: Path, name: str = "fleet.csv") -> Path:
     return path
 
 
+WEIGHT = "copies"
+"""Frequency weight of the weighted fleet table: how many identical deliveries a row is."""
+
+
+def write_weighted_fleet(folder: Path, name: str = "fleet_w.csv") -> Path:
+    """The fleet table with a frequency weight column (0 to 3; a zero leaves the row out)."""
+    frame = fleet_frame()
+    frame[WEIGHT] = np.random.default_rng(77).integers(0, 4, len(frame))
+    path = folder / name
+    frame.to_csv(path, index=False)
+    return path
+
+
 _SCANNED: dict[str, list] = {}
 
 
-def quick_scanner(columns, values_of, y, settings):
+def quick_scanner(columns, values_of, y, settings, *, adjust=None):
     """The engine's scanner in this process (no worker processes to start), remembered
     across tests for identical data: many tests scan the same invented table."""
     from tui.engine.runner import scan_columns
@@ -81,9 +94,16 @@ def quick_scanner(columns, values_of, y, settings):
     for name in columns:
         digest.update(np.ascontiguousarray(values_of(name)).tobytes())
     digest.update(np.ascontiguousarray(y).tobytes())
+    if adjust is not None:  # the covariates' values and the weights are part of the key
+        design = adjust.covariates
+        digest.update(repr((design.labels if design else None, adjust.weight_kind)).encode())
+        for part in (design.matrix if design else None, adjust.weights):
+            if part is not None:
+                digest.update(np.ascontiguousarray(part).tobytes())
     key = digest.hexdigest()
     if key not in _SCANNED:
-        _SCANNED[key] = list(scan_columns(columns, values_of, y, settings, workers=1))
+        scans = scan_columns(columns, values_of, y, settings, workers=1, adjust=adjust)
+        _SCANNED[key] = list(scans)
     yield from _SCANNED[key]
 
 

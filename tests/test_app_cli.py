@@ -7,7 +7,7 @@ import sys
 from pathlib import Path
 
 import pytest
-from app_fleet import OUTCOME, write_fleet
+from app_fleet import OUTCOME, WEIGHT, write_fleet, write_weighted_fleet
 
 from tui.app.session import default_log_path, open_session
 from tui.cli.main import main
@@ -34,7 +34,8 @@ def test_review_is_a_command() -> None:
         [sys.executable, "-m", "tui", "review", "--help"], capture_output=True, text=True
     )
     assert out.returncode == 0
-    for option in ("--outcome", "--event", "--exclude", "--log", "--groups", "--knots"):
+    options = ("--outcome", "--event", "--exclude", "--log", "--groups", "--knots")
+    for option in (*options, "--adjust", "--weight", "--weight-kind"):
         assert option in out.stdout
 
 
@@ -44,6 +45,45 @@ def test_missing_data_file(folder: Path, capsys: pytest.CaptureFixture[str]) -> 
 
 def test_unknown_outcome(folder: Path, capsys: pytest.CaptureFixture[str]) -> None:
     assert "late_deliveries" in refused(capsys, "fleet.csv", "--outcome", "late_deliveries")
+
+
+@pytest.mark.parametrize(
+    ("options", "named"),
+    [
+        (["--adjust", "stops,regoin"], "'regoin' (closest: region)"),
+        (["--adjust", OUTCOME], "outcome"),
+        (["--weight", "copys"], "weight column not found: 'copys'"),
+        (["--weight", "depot_temp_c"], "negative"),
+        (["--weight", WEIGHT, "--adjust", WEIGHT], "both a weight and an adjustment"),
+    ],
+)
+def test_bad_adjustment_or_weight(
+    folder: Path, capsys: pytest.CaptureFixture[str], options: list[str], named: str
+) -> None:
+    write_weighted_fleet(folder)
+    err = refused(capsys, "fleet_w.csv", "--outcome", OUTCOME, *options)
+    assert named in err
+    assert not (folder / "fleet_w.recodings.json").exists()
+
+
+def test_unknown_weight_kind(folder: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    write_weighted_fleet(folder)
+    with pytest.raises(SystemExit) as stop:  # refused while the options are read
+        main(
+            [
+                "review",
+                "fleet_w.csv",
+                "--outcome",
+                OUTCOME,
+                "--weight",
+                WEIGHT,
+                "--weight-kind",
+                "x",
+            ]
+        )
+    assert stop.value.code == 2
+    err = capsys.readouterr().err
+    assert err.startswith("bendwise: ") and err.count("\n") == 1 and "--weight-kind" in err
 
 
 def test_log_for_another_outcome(folder: Path, capsys: pytest.CaptureFixture[str]) -> None:

@@ -110,7 +110,7 @@ def test_the_list_is_usable_while_the_scan_runs(folder: Path) -> None:
     session = session_in(folder)
     release = threading.Event()
 
-    def held_scanner(columns, values_of, y, settings):
+    def held_scanner(columns, values_of, y, settings, *, adjust=None):
         for i, result in enumerate(quick_scanner(columns, values_of, y, settings)):
             if i == 2:
                 release.wait(timeout=30)

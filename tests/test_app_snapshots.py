@@ -12,7 +12,7 @@ from dataclasses import replace
 from pathlib import Path
 
 import pytest
-from app_fleet import OUTCOME, quick_scanner, settle, write_fleet
+from app_fleet import OUTCOME, WEIGHT, quick_scanner, settle, write_fleet, write_weighted_fleet
 from textual.widgets import Input
 
 from tui import recodings
@@ -53,6 +53,19 @@ def decided_app(folder: Path) -> ReviewApp:
     )
     recodings.save_log(log, folder / LOG)
     return fresh_app(folder)
+
+
+def adjusted_app(folder: Path) -> ReviewApp:
+    """Weighted, adjusted for the stop count and the region, with the route length accepted
+    (quadratic) and the list re-scored in the working model."""
+    write_weighted_fleet(folder)
+    session = open_session(
+        folder / "fleet_w.csv", OUTCOME, log_path=LOG, adjust=["stops", "region"], weight=WEIGHT
+    )
+    cache = FitCache(session.dataset, session.settings.max_levels, session.adjustment)
+    fits = cache.fits(FitRequest("route_km", 4, 4, basis=session.base))
+    session.accept("route_km", fits.table.row("quadratic"), 4, 4, basis=session.base)
+    return ReviewApp(session, quick_scanner)
 
 
 async def into_column(pilot, column: str, form: str) -> None:
@@ -116,3 +129,28 @@ def test_help(snap_compare, folder: Path, size: tuple[int, int]) -> None:
         await pilot.press("question_mark")
 
     assert snap_compare(fresh_app(folder), terminal_size=size, run_before=before)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+def test_adjusted_column_list(snap_compare, folder: Path, size: tuple[int, int]) -> None:
+    async def before(pilot) -> None:
+        await settle(pilot)
+        await pilot.press("m")
+        await settle(pilot)
+        pilot.app.screen.query_one(TriageTable).move_to_key("parcel_kg")
+        pilot.app.clear_notifications()
+        await pilot.pause()
+
+    assert snap_compare(adjusted_app(folder), terminal_size=size, run_before=before)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+def test_adjusted_inspection(snap_compare, folder: Path, size: tuple[int, int]) -> None:
+    async def before(pilot) -> None:
+        await settle(pilot)
+        await pilot.press("m")
+        await into_column(pilot, "parcel_kg", "spline, 4 knots")
+        pilot.app.clear_notifications()
+        await pilot.pause()
+
+    assert snap_compare(adjusted_app(folder), terminal_size=size, run_before=before)

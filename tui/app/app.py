@@ -1,13 +1,16 @@
 """The review app: the column list first; inspection, log, help and prompts on top.
 
 The scan runs in a thread worker owned by the app, so it keeps going whichever screen is
-shown; results reach the list screen through ``call_from_thread``.
+shown; results reach the list screen through ``call_from_thread``. A re-score of the
+undecided columns in the working model (every accepted column as a covariate) runs in the
+same way, in the same worker group, so only one scan runs at a time.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Iterable, Iterator
 from multiprocessing import resource_tracker
+from typing import Protocol
 
 import numpy as np
 from textual import work
@@ -15,6 +18,7 @@ from textual.app import App
 from textual.binding import Binding
 from textual.worker import Worker, WorkerState, get_current_worker
 
+from tui.app.adjusting import Basis
 from tui.app.commands import ReviewCommands
 from tui.app.fit_cache import FitCache
 from tui.app.notices import tell
@@ -26,13 +30,28 @@ from tui.app.screens.inspect import InspectScreen
 from tui.app.screens.triage import TriageScreen
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import ReviewSession
+from tui.engine.adjust import Adjustment
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
+from tui.intake.errors import InputProblem
 
-Scanner = Callable[
-    [Iterable[str], Callable[[str], np.ndarray], np.ndarray, ScanSettings], Iterator[ColumnScan]
-]
-"""The engine's column scanner (``scan_columns`` or its parallel twin)."""
+FIRST, MODEL = "first", "model"
+"""The two kinds of scan: every column at the start; the undecided ones in the working model."""
+
+
+class Scanner(Protocol):
+    """The engine's column scanner (``scan_columns``; tests pass one that runs in-process)."""
+
+    def __call__(
+        self,
+        columns: Iterable[str],
+        values_of: Callable[[str], np.ndarray],
+        y: np.ndarray,
+        settings: ScanSettings,
+        *,
+        adjust: Adjustment | None = None,
+    ) -> Iterator[ColumnScan]: ...
+
 
 TABLE_KEYS = [
     Binding("up,k", "cursor_up", "Move up"),
@@ -64,8 +83,12 @@ class ReviewApp(App[None]):
         super().__init__()
         self.session = session
         self.scanner = scanner
-        self.cache = FitCache(session.dataset, session.settings.max_levels)
+        self.cache = FitCache(session.dataset, session.settings.max_levels, session.adjustment)
         self.triage = TriageScreen(session, self.cache)
+        self.scan_kind = FIRST
+        """Which scan runs (or ran last)."""
+        self._model_run = 0  # results of an older (stopped) re-score are ignored
+        self._model_done = self._model_total = 0
 
     def on_mount(self) -> None:
         self.push_screen(self.triage)
@@ -80,7 +103,11 @@ class ReviewApp(App[None]):
         s = self.session
         found: list[ColumnScan] = []
         total = len(s.columns)
-        results = self.scanner(s.columns, s.dataset.raw_values, s.dataset.outcome.y, s.settings)
+        adjust = s.adjustment(s.base)
+        data = s.dataset
+        results = self.scanner(
+            s.columns, data.raw_values, data.outcome.y, s.settings, adjust=adjust
+        )
         for result in results:
             if worker.is_cancelled:
                 return
@@ -90,15 +117,115 @@ class ReviewApp(App[None]):
 
     def _scanned(self, ranked: list[ColumnScan], done: int, total: int, finished: bool) -> None:
         self.session.ranked = ranked
+        self.session.first_ranked = ranked
         self.session.scan_finished = finished
         self.triage.scan_progress(done, total, finished, None)
+
+    def scanning(self) -> bool:
+        """A scan (first or working-model) is under way."""
+        return any(
+            w.group == "scan" and w.state in (WorkerState.PENDING, WorkerState.RUNNING)
+            for w in self.workers
+        )
+
+    def score_in_working_model(self) -> str | None:
+        """Start re-scoring the undecided columns in the working model; returns why it
+        cannot start (None when it started)."""
+        s = self.session
+        if self.scanning():
+            return "a scan is running: wait for it to end"
+        columns = s.undecided()
+        if not columns:
+            return "every column is decided: nothing to re-score"
+        if not s.working_model():
+            return "the working model is empty: accept a form (a) or keep a column linear (l)"
+        self.scan_kind = MODEL
+        self._model_run += 1
+        self._model_done, self._model_total = 0, len(columns)
+        s.scan_finished = False
+        self.triage.scan_progress(0, len(columns), False, None, model=True)
+        self.model_scan(columns, self._model_run)
+        return None
+
+    @work(thread=True, exclusive=True, group="scan", exit_on_error=False)
+    def model_scan(self, columns: list[str], run: int) -> None:
+        """Re-score ``columns`` with every covariate of the working model in every fit."""
+        worker = get_current_worker()
+        s = self.session
+        basis = s.model_basis()  # reads covariates from the data: off the UI thread
+        self.call_from_thread(self._model_started, basis, run)
+        data = s.dataset
+        results = self.scanner(
+            columns, data.raw_values, data.outcome.y, s.settings, adjust=s.adjustment(basis)
+        )
+        try:
+            for result in results:
+                if worker.is_cancelled:
+                    return
+                self.call_from_thread(self._rescored, result, basis, run)
+        finally:
+            close = getattr(results, "close", None)
+            if close is not None:
+                close()  # stops the engine's workers at once when the re-score is dropped
+        self.call_from_thread(self._rescored, None, basis, run)
+
+    def _model_started(self, basis: Basis, run: int) -> None:
+        if run == self._model_run:
+            self.session.model = basis.covariates
+
+    def _rescored(self, result: ColumnScan | None, basis: Basis, run: int) -> None:
+        if run != self._model_run:
+            return  # a result already on its way when the re-score was stopped
+        s = self.session
+        finished = result is None
+        if result is not None:
+            s.rescored(result, basis)
+            self._model_done += 1
+        s.ranked = rank(s.ranked)
+        s.scan_finished = finished
+        self.triage.scan_progress(self._model_done, self._model_total, finished, None, model=True)
+        self._scores_changed()
+
+    def first_scores(self) -> str | None:
+        """Return to the first scan's scores (stopping a working-model re-score); returns
+        why not (None when done)."""
+        s = self.session
+        if self.scan_kind == FIRST and self.scanning():
+            return "the first scan is still running"
+        if s.model is None and not s.scored_with and not self.scanning():
+            return "the first scan's scores are already shown"
+        self.workers.cancel_group(self, "scan")
+        self._model_run += 1
+        s.first_scores()
+        s.scan_finished = True
+        self.scan_kind = FIRST
+        total = len(s.columns)
+        self.triage.scan_progress(len(s.ranked), total, True, None)
+        self._scores_changed()
+        return None
+
+    def _scores_changed(self) -> None:
+        """Inspection screens follow the basis of the score they show."""
+        for screen in self.screen_stack:
+            if isinstance(screen, InspectScreen):
+                screen.scores_changed()
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         if event.worker.group == "scan" and event.state == WorkerState.ERROR:
             error = event.worker.error
+            problem = f"{type(error).__name__}: {error}"
+            if isinstance(error, InputProblem):
+                problem = str(error)  # the intake's one-line message says it all
+            if self.scan_kind == MODEL:
+                # Columns re-scored so far keep their new scores (each row says which).
+                self.session.scan_finished = True
+                done, total = self._model_done, self._model_total
+                self.triage.scan_progress(done, total, False, problem, model=True)
+                tell(self, f"re-score stopped: {problem}", severity="error", timeout=10)
+                return
             done = len(self.session.ranked)
             total = len(self.session.columns)
-            self.triage.scan_progress(done, total, False, f"{type(error).__name__}: {error}")
+            self.triage.scan_progress(done, total, False, problem)
 
     def help_sections(self) -> list[Section]:
         """What the help screen lists, screen by screen."""

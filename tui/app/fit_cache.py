@@ -1,29 +1,38 @@
 """Full candidate fits of one column, computed once per request and kept.
 
 The inspection screen asks for a column's fits under some groups, knots and hand-entered
-cut points; a worker thread computes them with the engine and the result is cached, so
-returning to a column (or to a setting seen before) is instant.
+cut points, with the covariates and weights of the column's score (its ``Basis``); a worker
+thread computes them with the engine and the result is cached, so returning to a column (or
+to a setting seen before) is instant.
 """
 
 from __future__ import annotations
 
 import threading
-from dataclasses import dataclass
+from collections import OrderedDict
+from collections.abc import Callable
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from tui.app.adjusting import Basis
+from tui.engine.adjust import Adjustment
 from tui.engine.compare import ComparisonTable, compare_forms, fit_candidate
-from tui.engine.counts import ReducedCounts, reduce_column
+from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import Candidate
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
 from tui.engine.forms.linear import LinearCandidate
 from tui.engine.forms.registry import default_candidates
 from tui.engine.groups import LogitGroup, logit_groups
-from tui.intake.dataset import Dataset
+from tui.engine.scan import ScanSettings, reduce_for_scan
+from tui.intake.dataset import ColumnarDataset, Dataset
 
 TAIL_SHARE = 0.05
 """Share of rows in each tail named on the screen (where the data thin out)."""
+ROW_LEVEL_KEPT = 6
+"""Adjusted fits keep every row (with its covariates): only this many are kept, the most
+recently used, so a long review of a large file does not fill the memory."""
 
 
 @dataclass(frozen=True)
@@ -40,6 +49,8 @@ class FitRequest:
     """Indicator cut points entered by hand."""
     hinges: tuple[float, ...] = ()
     """Hinge knots entered by hand."""
+    basis: Basis = field(default_factory=Basis)
+    """Covariates and weights in every fit (those of the column's score)."""
 
     def by_hand(self) -> list[Candidate]:
         """The candidates made from hand-entered numbers."""
@@ -62,7 +73,7 @@ class ColumnFits:
     request: FitRequest
     """What was asked."""
     counts: ReducedCounts
-    """The column reduced to counts per distinct value."""
+    """The column reduced to counts per distinct value (one per row when adjusted)."""
     groups: tuple[LogitGroup, ...]
     """Empirical logits of the quantile groups."""
     table: ComparisonTable | None
@@ -76,27 +87,52 @@ class ColumnFits:
 class FitCache:
     """Counts and fits per request; safe to call from worker threads."""
 
-    def __init__(self, dataset: Dataset, max_levels: int) -> None:
+    def __init__(
+        self,
+        dataset: Dataset | ColumnarDataset,
+        max_levels: int,
+        adjustment: Callable[[Basis], Adjustment | None] = lambda basis: None,
+    ) -> None:
         self._dataset = dataset
         self._max_levels = max_levels
+        self._adjustment = adjustment
         self._lock = threading.Lock()
-        self._counts: dict[str, ReducedCounts] = {}
+        self._counts: dict[tuple[str, Basis], ReducedCounts] = {}
         self._fits: dict[FitRequest, ColumnFits] = {}
+        # Row-level entries, least recently used first: their counts hold every row.
+        self._row_counts: OrderedDict[tuple[str, Basis], ReducedCounts] = OrderedDict()
+        self._row_fits: OrderedDict[FitRequest, ColumnFits] = OrderedDict()
 
     def cached(self, request: FitRequest) -> ColumnFits | None:
         """The fits if already computed."""
         with self._lock:
-            return self._fits.get(request)
+            found = self._fits.get(request)
+            if found is None and request in self._row_fits:
+                self._row_fits.move_to_end(request)
+                found = self._row_fits[request]
+            return found
 
-    def counts(self, column: str) -> ReducedCounts:
-        """The column reduced to counts (computed once)."""
+    def counts(self, column: str, basis: Basis | None = None) -> ReducedCounts:
+        """The column reduced to counts (computed once per basis), exactly as the scan
+        reduces it: with covariates every row stays a row."""
+        basis = Basis() if basis is None else basis
+        key = (column, basis)
         with self._lock:
-            found = self._counts.get(column)
+            found = self._counts.get(key)
+            if found is None and key in self._row_counts:
+                self._row_counts.move_to_end(key)
+                found = self._row_counts[key]
         if found is None:
             x = self._dataset.raw_values(column)
-            found = reduce_column(x, self._dataset.outcome.y, max_levels=self._max_levels)
+            settings = ScanSettings(max_levels=self._max_levels)
+            adjust = self._adjustment(basis)
+            y = self._dataset.outcome.y
+            found = reduce_for_scan(x, y, settings, adjust, column).counts
             with self._lock:
-                self._counts[column] = found
+                if found.covariates is None:
+                    self._counts[key] = found
+                else:
+                    _keep_recent(self._row_counts, key, found)
         return found
 
     def fits(self, request: FitRequest) -> ColumnFits:
@@ -104,11 +140,22 @@ class FitCache:
         found = self.cached(request)
         if found is not None:
             return found
-        counts = self.counts(request.column)
+        counts = self.counts(request.column, request.basis)
         result = _compute(request, counts)
         with self._lock:
-            self._fits[request] = result
+            if counts.covariates is None:
+                self._fits[request] = result
+            else:
+                _keep_recent(self._row_fits, request, result)
         return result
+
+
+def _keep_recent(kept: OrderedDict, key: object, value: object) -> None:
+    """Add an entry as the most recent; drop the oldest beyond ``ROW_LEVEL_KEPT``."""
+    kept[key] = value
+    kept.move_to_end(key)
+    while len(kept) > ROW_LEVEL_KEPT:
+        kept.popitem(last=False)
 
 
 def _compute(request: FitRequest, counts: ReducedCounts) -> ColumnFits:
@@ -121,12 +168,12 @@ def _compute(request: FitRequest, counts: ReducedCounts) -> ColumnFits:
     if events == 0 or events == rows:
         problem = "every row has the same outcome: no form can be fitted"
         return ColumnFits(request, counts, groups, None, tails, problem)
-    if counts.distinct <= 2:
+    if counts.distinct_values <= 2:
         # Two values (or one) hold no curve: only the linear form applies.
         linear = ComparisonTable((fit_candidate(LinearCandidate(), counts),), None)
         problem = (
             "one value only: nothing to compare; set it aside (x)"
-            if counts.distinct == 1
+            if counts.distinct_values == 1
             else "two values only: a straight line joins them, so only linear applies"
         )
         return ColumnFits(request, counts, groups, linear, tails, problem)

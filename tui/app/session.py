@@ -14,10 +14,13 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+from tui.app.adjusting import Adjustments, Basis
 from tui.app.logfile import load_log, save_log
+from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit
+from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
-from tui.intake.dataset import Dataset, file_sha256, open_dataset
+from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.errors import InputProblem
 from tui.intake.profile import ColumnProfile
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
@@ -52,7 +55,7 @@ def _plain(value: Any) -> Any:
 class ReviewSession:
     """The state of one review, shared by every screen."""
 
-    dataset: Dataset
+    dataset: Dataset | ColumnarDataset
     """The training data (rows with an outcome)."""
     log: RecodingLog
     """The decisions as saved on disk."""
@@ -74,16 +77,33 @@ class ReviewSession:
     """Indicator cut points typed for each column."""
     hand_hinges: dict[str, tuple[float, ...]] = field(default_factory=dict)
     """Hinge knots typed for each column."""
+    adjust: tuple[str, ...] = ()
+    """Covariates asked for on the command line (``--adjust``): in every fit."""
+    weight: str | None = None
+    """Weight column (``--weight``): in every fit, never reviewed itself."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` (None without weights)."""
+    first_ranked: list[ColumnScan] = field(default_factory=list)
+    """The first scan's results, to return to after working-model re-scores."""
+    scored_with: dict[str, Basis] = field(default_factory=dict)
+    """Columns whose score shown was not computed with ``base`` (working-model re-scores)."""
+    model: tuple[str, ...] | None = None
+    """Covariates of the last working-model re-score (None: first scan's scores shown)."""
 
     def __post_init__(self) -> None:
         self._profiles: dict[str, ColumnProfile] = {p.name: p for p in self.dataset.numeric}
+        self.adjustments = Adjustments(
+            self.dataset, self.dataset.outcome.column, self.weight, self.weight_kind
+        )
+        # The first scan's covariates enter in the forms the log held at the start.
+        self.base: Basis = self.adjustments.basis(self.adjust, self._forms())
 
     # --- what is known of a column -------------------------------------------------------
 
     @property
     def columns(self) -> list[str]:
-        """Every numeric column to review, in file order."""
-        return self.dataset.columns
+        """Every numeric column to review, in file order (the weight column is not one)."""
+        return [c for c in self.dataset.columns if c != self.weight]
 
     def scan_of(self, column: str) -> ColumnScan | None:
         """The column's scan result, once the scan has reached it."""
@@ -134,12 +154,85 @@ class ReviewSession:
         i = self.order.index(column) + step
         return self.order[i] if 0 <= i < len(self.order) else None
 
+    # --- adjustment: what each column's fits carry ---------------------------------------
+
+    def basis_of(self, column: str) -> Basis:
+        """Covariates and weights of the score shown for the column (and of its table)."""
+        return self.scored_with.get(column, self.base)
+
+    def adjustment(self, basis: Basis) -> Adjustment | None:
+        """The engine's adjustment for a basis this session built."""
+        return self.adjustments.of(basis)
+
+    def adjusted_for(self, column: str, basis: Basis | None = None) -> tuple[str, ...]:
+        """Covariates in the column's fits (never the column itself)."""
+        return (self.basis_of(column) if basis is None else basis).adjusted_for(column)
+
+    def describe_basis(self, column: str, basis: Basis | None = None, forms: bool = True) -> str:
+        """E.g. ``adjusted for age (linear), bmi (quadratic); frequency weights w``; without
+        ``forms``, the covariates' names only (``adjusted for age, bmi; ...``)."""
+        basis = self.basis_of(column) if basis is None else basis
+        adjust = self.adjustment(basis)
+        if adjust is None:
+            return "unadjusted"
+        if forms:
+            return adjust.describe(column)
+        parts = []
+        if basis.adjusted_for(column):
+            parts.append("adjusted for " + ", ".join(basis.adjusted_for(column)))
+        if basis.weight:
+            parts.append(f"{basis.weight_kind} weights {basis.weight}")
+        return "; ".join(parts) or "unadjusted"
+
+    def zero_weight_rows(self) -> int:
+        """Rows whose weight is zero (left out of every fit)."""
+        adjust = self.adjustment(self.base)
+        if adjust is None or adjust.weights is None:
+            return 0
+        return int((adjust.weights == 0).sum())
+
+    def working_model(self) -> tuple[str, ...]:
+        """The ``--adjust`` covariates, then every column with an accepted form or kept
+        linear, in the order decided (set-aside columns are left out)."""
+        here = set(self.columns)
+        decided = [d.column for d in self.log.decisions if d.column in here]
+        return tuple(dict.fromkeys([*self.adjust, *decided]))
+
+    def model_basis(self) -> Basis:
+        """The working model built now, in the forms the log holds (raises InputProblem)."""
+        return self.adjustments.basis(self.working_model(), self._forms())
+
+    def undecided(self) -> list[str]:
+        """Columns with nothing in the log, in file order."""
+        return [c for c in self.columns if not self.is_decided(c)]
+
+    def rescored(self, result: ColumnScan, basis: Basis) -> None:
+        """A working-model score replaces the column's score (q-values for ``rank``)."""
+        self.scored_with[result.column] = basis
+        self.ranked = [s for s in self.ranked if s.column != result.column] + [result]
+
+    def first_scores(self) -> None:
+        """Back to the first scan's scores."""
+        self.ranked = list(self.first_ranked)
+        self.scored_with.clear()
+        self.model = None
+
+    def _forms(self) -> dict[str, Recoding]:
+        return {d.column: d.recoding for d in self.log.decisions}
+
     # --- decisions (each saved before it counts) -----------------------------------------
 
     def accept(
-        self, column: str, row: FormFit, groups: int, knots: int, by_hand: bool = False
+        self,
+        column: str,
+        row: FormFit,
+        groups: int,
+        knots: int,
+        by_hand: bool = False,
+        basis: Basis | None = None,
     ) -> Decision:
-        """Record the form in ``row`` for ``column`` and save the log."""
+        """Record the form in ``row`` for ``column`` and save the log. ``basis`` is what the
+        row was fitted with (default: the basis of the column's score)."""
         if row.recoding is None:
             raise ValueError(f"{row.label} has no learned recoding to accept")
         profile = self.profile_of(column)
@@ -152,7 +245,7 @@ class ReviewSession:
             row.recoding,
             (profile.minimum, profile.maximum),
             note=self.note_of(column),
-            evidence=self.evidence(column, row, groups, knots, by_hand),
+            evidence=self.evidence(column, row, groups, knots, by_hand, basis),
             taken=taken,
         )
         self._commit(self.log.with_decision(decision))
@@ -193,10 +286,19 @@ class ReviewSession:
         return False
 
     def evidence(
-        self, column: str, row: FormFit, groups: int, knots: int, by_hand: bool
+        self,
+        column: str,
+        row: FormFit,
+        groups: int,
+        knots: int,
+        by_hand: bool,
+        basis: Basis | None = None,
     ) -> dict[str, Any]:
-        """What the screens showed when the form was accepted."""
-        scan = self.scan_of(column)
+        """What the screens showed when the form was accepted, and the covariates and
+        weights it was judged with (evidence only: replay never reads them)."""
+        basis = self.basis_of(column) if basis is None else basis
+        # The score is evidence only when it came from the same design as the row.
+        scan = self.scan_of(column) if self.basis_of(column) == basis else None
         final = self.scan_finished
         evidence: Mapping[str, Any] = {
             "form": row.label,
@@ -214,6 +316,10 @@ class ReviewSession:
             "score_p": scan.p_value if scan else None,
             "q_value": scan.q_value if scan and final else None,
             "shape": scan.shape if scan and final else None,
+            "adjusted_for": list(self.adjusted_for(column, basis)),
+            "adjustment": self.describe_basis(column, basis),
+            "weight": basis.weight,
+            "weight_kind": basis.weight_kind,
         }
         return {key: _plain(value) for key, value in evidence.items()}
 
@@ -235,14 +341,18 @@ def open_session(
     exclude: tuple[str, ...] | list[str] = (),
     log_path: str | Path | None = None,
     settings: ScanSettings | None = None,
+    adjust: tuple[str, ...] | list[str] = (),
+    weight: str | None = None,
+    weight_kind: str = "frequency",
 ) -> ReviewSession:
-    """Read the data and the log (or start an empty one). Raises InputProblem."""
+    """Read the data and the log (or start an empty one), and build the covariates and
+    weights every fit carries. Raises InputProblem."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
     if data.exists() and path.exists() and path.resolve() == data.resolve():
         raise InputProblem(f"--log {path} is the data file; choose another name for the log")
     dataset = open_dataset(data, outcome, event, exclude)
-    if not dataset.columns:
+    if not [c for c in dataset.columns if c != weight]:
         raise InputProblem(f"{data} has no numeric columns to review besides '{outcome}'")
     folder = path.parent if str(path.parent) else Path(".")
     if path.exists() and not path.is_file():
@@ -273,4 +383,13 @@ def open_session(
             )
     else:
         log = RecodingLog(outcome_column=coded.column, event=_plain(coded.event), source=source)
-    return ReviewSession(dataset, log, path, settings or ScanSettings(), warning)
+    return ReviewSession(
+        dataset,
+        log,
+        path,
+        settings or ScanSettings(),
+        warning,
+        adjust=tuple(adjust),
+        weight=weight,
+        weight_kind=weight_kind if weight else None,
+    )

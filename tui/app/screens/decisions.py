@@ -129,6 +129,10 @@ class DecisionsScreen(Screen[str | None]):
             facts.append(f"ΔAIC {ev['delta_aic']:.1f}")
         if ev.get("df") is not None:
             facts.append(f"{ev['df']} df")
+        if ev.get("adjusted_for"):
+            facts.append("judged adjusted for " + ", ".join(str(c) for c in ev["adjusted_for"]))
+        if ev.get("weight"):
+            facts.append(f"{ev.get('weight_kind') or ''} weights {ev['weight']}".strip())
         facts.append(f"range {decision.range[0]:.6g} to {decision.range[1]:.6g}")
         facts.append(f"note: {decision.note or '-'}")
         detail.update(" · ".join(facts))

@@ -20,6 +20,9 @@ MARKS = (
     "Plot: ● empirical logit of a quantile group at its median, │ ±1.96 standard errors, "
     "· · · linear fit, braille line the highlighted form.",
     "q-values and shape hints read … until every column is scanned.",
+    "adj (once a score is adjusted): - unadjusted, +N adjusted for N columns, named under "
+    "the list. The working model: every column accepted or kept linear, in its form, and "
+    "the --adjust columns; set-aside columns stay out.",
 )
 
 

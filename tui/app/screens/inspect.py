@@ -82,6 +82,7 @@ class InspectScreen(Screen[str]):
     def compose(self) -> ComposeResult:
         yield Line("", id="heading")
         yield Line("", id="evidence")
+        yield Line("", id="adjusted")
         yield LogitPlot(id="plot")
         yield Line("", id="legend")
         yield FormsTable(id="forms")
@@ -106,7 +107,15 @@ class InspectScreen(Screen[str]):
             self.knots,
             s.hand_cuts.get(self.column, ()),
             s.hand_hinges.get(self.column, ()),
+            s.basis_of(self.column),
         )
+
+    def scores_changed(self) -> None:
+        """The session's scores changed (a working-model re-score, or back to the first
+        scan): when this column's score now comes from another design, refit with it."""
+        self._refresh_heading()
+        if self.fits is not None and self.fits.request != self.request():
+            self._load(self.query_one(FormsTable).highlighted_key())
 
     def show_column(self, column: str) -> None:
         """Switch to ``column``: fits from the cache, or computed in a worker."""
@@ -194,6 +203,16 @@ class InspectScreen(Screen[str]):
             low, high = (value_text(v) for v in self.fits.tails)
             parts.append(f"{share} of rows < {low} · {share} > {high}")
         self.query_one("#evidence", Line).update(" · ".join(parts))
+        basis = s.basis_of(self.column)
+        adjusted = self.query_one("#adjusted", Line)
+        adjusted.display = not basis.plain
+        if not basis.plain:
+            # Short terminals name the covariates only; taller ones say how each entered.
+            short = self.has_class("-short")
+            words = s.describe_basis(self.column, basis, forms=not short)
+            if s.adjusted_for(self.column, basis) and not short:
+                words += " · curves drawn at the covariates' means"
+            adjusted.update(words)
         note = s.note_of(self.column)
         self.query_one("#note", Line).update(f"note: {note}" if note else "")
         self.query_one("#note").display = bool(note)
@@ -207,7 +226,9 @@ class InspectScreen(Screen[str]):
         fits = self.fits
         row = self.highlighted()
         self.query_one(LogitPlot).draw(fits, row)
-        legend = "● group logit  │ ±1.96 SE  · · linear"
+        adjusted = fits is not None and fits.counts.covariates is not None
+        # The group logits are the column's own: the covariates are in the fits only.
+        legend = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE  · · linear"
         if row is not None and row.kind != "linear" and row.fit is not None:
             legend += f"  ⠤⠤ {form_text(row)}"
         self.query_one("#legend", Line).update(legend)
@@ -232,7 +253,10 @@ class InspectScreen(Screen[str]):
 
     def on_resize(self) -> None:
         # Short terminals give the plot the room and let the table scroll.
-        self.set_class(self.size.height < SHORT_BELOW, "-short")
+        short = self.size.height < SHORT_BELOW
+        if short != self.has_class("-short"):
+            self.set_class(short, "-short")
+            self._refresh_heading()
 
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         self._refresh_row()
@@ -249,16 +273,23 @@ class InspectScreen(Screen[str]):
             text = f"not accepted: {form_text(row)} did not fit ({row.status})"
             tell(self, text, severity="warning")
             return
-        hand = self.fits is not None and row.label in self.fits.request.hand_labels()
-        self._decide(lambda: self.session.accept(self.column, row, self.groups, self.knots, hand))
+        fits = self.fits
+        assert fits is not None  # a highlighted row comes from fits
+        hand = row.label in fits.request.hand_labels()
+        basis = fits.request.basis  # the design the row was fitted with
+        column, groups, knots = self.column, self.groups, self.knots
+        self._decide(lambda: self.session.accept(column, row, groups, knots, hand, basis))
 
     def action_keep_linear(self) -> None:
         """Keep this column as a plain linear term."""
-        linear = self.fits.table.linear if self.fits and self.fits.table else None
-        if linear is None or linear.recoding is None:
+        fits = self.fits
+        linear = fits.table.linear if fits and fits.table else None
+        if fits is None or linear is None or linear.recoding is None:
             tell(self, "the linear form is not fitted yet", severity="warning")
             return
-        self._decide(lambda: self.session.accept(self.column, linear, self.groups, self.knots))
+        basis = fits.request.basis
+        column, groups, knots = self.column, self.groups, self.knots
+        self._decide(lambda: self.session.accept(column, linear, groups, knots, False, basis))
 
     def _decide(self, record: Callable[[], Decision]) -> None:
         try:

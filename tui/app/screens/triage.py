@@ -61,6 +61,21 @@ class TriageScreen(Screen[None]):
         Binding("slash", "filter", "Filter", tooltip="Show columns whose name holds a text"),
         Binding("d", "toggle_decided", "Hide decided", tooltip="Hide or show decided columns"),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log"),
+        # Named on the summary line above the list instead (the footer is full at 80).
+        Binding(
+            "m",
+            "working_model",
+            "Working model",
+            tooltip="Re-score the undecided columns in the working model",
+            show=False,
+        ),
+        Binding(
+            "u",
+            "first_scores",
+            "First scores",
+            tooltip="Back to the first scan's scores",
+            show=False,
+        ),
         Binding("q", "app.quit", "Quit", tooltip="Quit (every decision is already saved)"),
         Binding("exclamation_mark", "app.cautions", "Cautions", tooltip="Read the cautions"),
         Binding(
@@ -76,6 +91,7 @@ class TriageScreen(Screen[None]):
         self._filter = ""
         self._redraw_timer: Timer | None = None
         self._scan_text = "starting the scan…"
+        self._rescoring = False  # a working-model re-score is under way
         self._follow_top = True  # while the scan runs, until a key moves the cursor
         self._opening_filter = False
 
@@ -110,15 +126,30 @@ class TriageScreen(Screen[None]):
 
     # --- the scan reports here (from the app) ---------------------------------------------
 
-    def scan_progress(self, done: int, total: int, finished: bool, problem: str | None) -> None:
-        """New scan results are in the session: update the bar now, the list soon."""
+    def scan_progress(
+        self, done: int, total: int, finished: bool, problem: str | None, model: bool = False
+    ) -> None:
+        """New scan results are in the session: update the bar now, the list soon.
+        ``model``: the scan re-scores undecided columns in the working model."""
         self.query_one("#scan-bar", ProgressBar).update(total=total, progress=done)
         skipped = [p.name for p in self.session.dataset.skipped]
-        if problem is not None:
+        covariates = len(self.session.model or ())
+        self._rescoring = model and not finished and problem is None
+        if model and problem is not None:
+            self._scan_text = f"re-score stopped after {done}/{total} columns: {problem}"
+        elif model and finished:
+            size = f"{covariates} column" + ("" if covariates == 1 else "s")
+            self._scan_text = f"{total} undecided re-scored in the working model ({size})"
+        elif model:
+            self._scan_text = f"{done}/{total} undecided re-scored in the working model"
+        elif problem is not None:
             self._scan_text = f"scan stopped after {done}/{total} columns: {problem}"
         elif finished:
             scored = sum(1 for r in self.session.ranked if r.score is not None)
             self._scan_text = f"{done}/{total} columns scanned, {scored} scored"
+            zero = self.session.zero_weight_rows()
+            if zero:
+                self._scan_text += f"; {zero} rows weigh 0 (left out)"
             if skipped:
                 self._scan_text += f"; not numeric: {', '.join(skipped)}"
         else:
@@ -147,7 +178,9 @@ class TriageScreen(Screen[None]):
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
         s.order = [r.column for r in rows]
         table = self.query_one(TriageTable)
+        table.hold_widths = self._rescoring
         table.show(rows, s)
+        self.set_class(table.adjusted_shown, "-adjusted")
         if self._follow_top:
             table.move_to_key(None)
         parts = [f"{s.decided_count()} of {len(s.columns)} decided", f"sorted by {self.sort}"]
@@ -157,8 +190,24 @@ class TriageScreen(Screen[None]):
             parts.append("decided hidden")
         if len(rows) < len(s.ranked):
             parts.append(f"showing {len(rows)}")
+        hint = self._model_hint()
+        if hint:
+            parts.append(hint)
+        if s.weight:
+            parts.append(f"weights {s.weight}")  # the kind is on the column screen
         self.query_one("#summary", Line).update(" · ".join(parts))
         self._describe_highlighted()
+
+    def _model_hint(self) -> str:
+        """The working-model keys, named when they would do something."""
+        s = self.session
+        if not s.scan_finished:
+            return ""
+        model = s.working_model()
+        stale = any(s.adjusted_for(c) != tuple(x for x in model if x != c) for c in s.undecided())
+        if model and stale and len(model) > len(s.adjust):
+            return "m: working model" if s.model is None else "m: re-score · u: first scores"
+        return "u: first scores" if s.model is not None else ""
 
     def _describe_highlighted(self) -> None:
         column = self.query_one(TriageTable).highlighted_key()
@@ -169,9 +218,13 @@ class TriageScreen(Screen[None]):
             detail.update(empty)
             return
         best = scan.best_form or "-"
+        basis = ""
+        if self.query_one(TriageTable).adjusted_shown:
+            named = ", ".join(scan.adjusted_for)
+            basis = f"score adjusted for {named} · " if named else "score unadjusted · "
         detail.update(
-            f"{scan.column}: n {scan.n} · missing {scan.missing} · distinct {scan.distinct} · "
-            f"best {best} (ΔAIC {number_text(scan.delta_aic)}) · flags "
+            f"{scan.column}: {basis}n {scan.n} · missing {scan.missing} · distinct "
+            f"{scan.distinct} · best {best} (ΔAIC {number_text(scan.delta_aic)}) · flags "
             f"{', '.join(scan.flags) or 'none'} · {self.session.decision_phrase(scan.column)}"
         )
 
@@ -253,6 +306,23 @@ class TriageScreen(Screen[None]):
     def action_decisions(self) -> None:
         """Open the recoding log."""
         self.app.push_screen(DecisionsScreen(self.session), self._open_from_log)
+
+    def action_working_model(self) -> None:
+        """Re-score the undecided columns in the working model."""
+        why_not = self.app.score_in_working_model()  # type: ignore[attr-defined]
+        if why_not is not None:
+            tell(self, why_not, severity="warning")
+            return
+        model = self.session.working_model()
+        tell(self, f"re-scoring in the working model: {', '.join(model)}", timeout=6)
+
+    def action_first_scores(self) -> None:
+        """Back to the first scan's scores."""
+        why_not = self.app.first_scores()  # type: ignore[attr-defined]
+        if why_not is not None:
+            tell(self, why_not, severity="warning")
+            return
+        tell(self, "first scan's scores shown", timeout=3)
 
     def _open_from_log(self, column: str | None) -> None:
         if column is not None:

@@ -67,6 +67,10 @@ class KeyTable(DataTable):
 
     SPECS: ClassVar[tuple[ColumnSpec, ...]] = ()
 
+    hold_widths = False
+    """While true, columns shown keep at least their width (rows being replaced one by one
+    would otherwise make the columns jump as the longest text comes and goes)."""
+
     BINDINGS = [
         Binding("j", "cursor_down", "Down", show=False),
         Binding("k", "cursor_up", "Up", show=False),
@@ -106,13 +110,22 @@ class KeyTable(DataTable):
             index = 0
         self.move_cursor(row=index, animate=False)
 
+    def specs(self) -> tuple[ColumnSpec, ...]:
+        """The columns this table may show now (all of ``SPECS`` unless overridden)."""
+        return self.SPECS
+
     def _layout(self, width: int) -> bool:
         """Choose the columns for this width; True when they changed (and were refilled)."""
         specs = []
-        for spec in self.SPECS:
+        held = {s.key: w for s, w in self._shown} if self.hold_widths else {}
+        for spec in self.specs():
             longest = self._longest(spec)  # room beyond the longest text is wasted
             narrow = longest if spec.right else min(spec.width, longest)  # numbers never cut
-            specs.append(replace(spec, width=narrow, widest=max(narrow, min(spec.widest, longest))))
+            widest = max(narrow, min(spec.widest, longest))
+            if spec.key in held:  # shown already: keep its width while rows are replaced
+                narrow = max(narrow, held[spec.key])
+                widest = max(widest, narrow)
+            specs.append(replace(spec, width=narrow, widest=widest))
         shown = fit_columns(specs, max(width - 1, 20))  # one cell for the scrollbar
         if [(s.key, w) for s, w in shown] == [(s.key, w) for s, w in self._shown]:
             return False

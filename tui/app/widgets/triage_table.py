@@ -17,6 +17,15 @@ PENDING = "…"
 DECISION_MARKS = {UNDECIDED: " ", KEPT_LINEAR: "=", SET_ASIDE: "×"}
 """Mark before a column name; any accepted form is ✓."""
 FLAG_MARK = "!"
+UNADJUSTED = "-"
+"""The adjustment field of a score fitted one column at a time."""
+ADJUSTMENT_KEYS = ("adj", "adjusted")
+"""Fields shown only once some score is adjusted."""
+
+
+def adjustment_mark(scan: ColumnScan) -> str:
+    """``-`` for an unadjusted score, ``+N`` for one adjusted for N columns."""
+    return f"+{len(scan.adjusted_for)}" if scan.adjusted_for else UNADJUSTED
 
 
 def decision_mark(word: str) -> str:
@@ -35,6 +44,8 @@ def scan_row(scan: ColumnScan, session: ReviewSession) -> Row:
         "missing": str(scan.missing),
         "distinct": str(scan.distinct),
         "score": number_text(scan.score),
+        "adj": adjustment_mark(scan),
+        "adjusted": ", ".join(scan.adjusted_for) or UNADJUSTED,
         "q": p_text(scan.q_value) if final else PENDING,
         "shape": (scan.shape or "-") if final else (PENDING if scan.score is not None else "-"),
         "best": scan.best_form or "-",
@@ -51,18 +62,30 @@ class TriageTable(KeyTable):
 
     SPECS = (
         ColumnSpec("name", "column", 22, 32, False, 0),
-        ColumnSpec("n", "n", 6, 7, True, 10),
-        ColumnSpec("missing", "missing", 7, 7, True, 8),
-        ColumnSpec("distinct", "distinct", 8, 8, True, 9),
+        ColumnSpec("n", "n", 6, 7, True, 12),
+        ColumnSpec("missing", "missing", 7, 7, True, 10),
+        ColumnSpec("distinct", "distinct", 8, 8, True, 11),
         ColumnSpec("score", "score", 6, 6, True, 1),
-        ColumnSpec("q", "q-value", 7, 7, True, 2),
-        ColumnSpec("shape", "shape", 14, 14, False, 3),
-        ColumnSpec("best", "best form", 16, 26, False, 4),
-        ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 5),
-        ColumnSpec("flags", "flags", 12, 28, False, 6),
-        ColumnSpec("decision", "decision", 12, 24, False, 7),
+        ColumnSpec("adj", "adj", 3, 3, True, 2),
+        ColumnSpec("q", "q-value", 7, 7, True, 3),
+        ColumnSpec("shape", "shape", 14, 14, False, 4),
+        ColumnSpec("best", "best form", 16, 26, False, 5),
+        ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 6),
+        ColumnSpec("flags", "flags", 12, 28, False, 7),
+        ColumnSpec("decision", "decision", 12, 24, False, 8),
+        ColumnSpec("adjusted", "adjusted for", 16, 60, False, 9),
     )
 
+    adjusted_shown = False
+    """Some score of the session is adjusted: the adjustment fields are shown."""
+
+    def specs(self) -> tuple[ColumnSpec, ...]:
+        if self.adjusted_shown:
+            return self.SPECS
+        return tuple(s for s in self.SPECS if s.key not in ADJUSTMENT_KEYS)
+
     def show(self, scans: Sequence[ColumnScan], session: ReviewSession) -> None:
-        """Show these scanned columns."""
+        """Show these scanned columns (with the adjustment fields once any score of the
+        session is adjusted, so filtering never moves the columns)."""
+        self.adjusted_shown = any(s.adjusted_for for s in session.ranked)
         self.show_rows([scan_row(s, session) for s in scans])

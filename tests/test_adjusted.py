@@ -134,3 +134,14 @@ def test_survey_weights_match_statsmodels_var_weights(rng):
     ref = _glm(y, x, var_weights=w)
     assert table.linear.deviance == pytest.approx(ref.deviance, abs=1e-6)
     np.testing.assert_allclose(table.linear.fit.coef, ref.params, rtol=1e-6)
+
+
+def test_zero_weights_drop_rows_without_counting_them_missing(rng):
+    x = rng.normal(size=1000)
+    y = (rng.random(1000) < 0.3).astype(float)
+    w = np.ones(1000)
+    w[:300] = 0.0
+    result, _ = scan_column("x", x, y, adjust=Adjustment(weights=w, weight_column="w",
+                                                         weight_kind="frequency"))  # fmt: skip
+    assert result.rows == 700 and result.missing == 0
+    assert "many-missing" not in result.flags

@@ -108,3 +108,22 @@ def test_text_covariate_with_many_levels(tmp_path):
     frame.to_csv(path, index=False)
     out = run_cli("scan", str(path), "--outcome", "y", "--adjust", "site")
     _one_line_error(out, "site", "levels")
+
+
+def test_unknown_weight_column_is_named_as_such():
+    out = run_cli("scan", COHORT, "--outcome", "wound_infection_30d", "--weight", "nosuch")
+    _one_line_error(out, "weight column", "nosuch")
+
+
+def test_constant_covariate_is_refused():
+    out = run_cli(
+        "scan", COHORT, "--outcome", "wound_infection_30d", "--adjust", "antibiotic_dose_g"
+    )
+    _one_line_error(out, "antibiotic_dose_g", "constant")
+
+
+def test_excluded_numeric_column_can_still_adjust():
+    out = run_cli("scan", COHORT, "--outcome", "wound_infection_30d", "--exclude", "age_years",
+                  "--adjust", "age_years", "--format", "json")  # fmt: skip
+    assert out.returncode == 0, out.stderr
+    assert '"age_years"' in out.stdout  # listed in adjusted_for, not scanned

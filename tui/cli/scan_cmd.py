@@ -38,14 +38,14 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     if args.output and Path(args.output).resolve() == Path(args.data).resolve():
         raise InputProblem(f"--output {args.output} would overwrite the data file")
-    exclude = list(args.exclude) + ([args.weight] if args.weight else [])
-    data = open_dataset(args.data, args.outcome, args.event, exclude)
+    data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
     adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
     settings = ScanSettings(groups=args.groups, knots=args.knots)
-    progress = Progress(len(data.columns), enabled=sys.stderr.isatty())
+    columns = [c for c in data.columns if c != args.weight]  # weights are not a predictor
+    progress = Progress(len(columns), enabled=sys.stderr.isatty())
     results = []
-    scans = scan_columns(data.columns, data.raw_values, data.outcome.y, settings, adjust=adjust)
+    scans = scan_columns(columns, data.raw_values, data.outcome.y, settings, adjust=adjust)
     for result in scans:
         results.append(result)
         progress.step(result.column)

@@ -94,6 +94,8 @@ def build_covariates(
         if name in numeric:
             values = np.asarray(numeric[name], dtype=float)
             values = np.where(np.isfinite(values), values, np.nan)
+            if np.unique(values[np.isfinite(values)]).size < 2:
+                raise CovariateError(f"covariate {name!r} is constant: it cannot adjust anything")
             recoding = forms.get(name)
             if recoding is None:
                 labels.append(name)

@@ -253,8 +253,11 @@ def reduce_for_scan(
         counts = reduce_column(x, y, max_levels=settings.max_levels)
         return ReducedColumn(counts, int(x.size), nonfinite, _whole_numbers(x, counts))
     used = np.isfinite(x)
+    rows = int(x.size)
     if adjust.weights is not None:
-        used &= adjust.weights > 0
+        weighted = adjust.weights > 0  # zero-weight rows are dropped, not missing
+        used &= weighted
+        rows = int(weighted.sum())
     design = adjust.covariates_for(column)
     if design is not None:
         used &= design.complete
@@ -263,7 +266,7 @@ def reduce_for_scan(
         counts = reduce_column(x, y, weights=adjust.weights, max_levels=settings.max_levels)
     return ReducedColumn(
         counts,
-        int(x.size),
+        rows,
         nonfinite,
         _whole_numbers(x, counts),
         int(used.sum()),

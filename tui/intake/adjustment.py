@@ -12,6 +12,7 @@ from tui.engine.adjust import Adjustment
 from tui.engine.covariates import CovariateError, build_covariates
 from tui.engine.forms.base import Recoding
 from tui.intake.errors import InputProblem, closest_names
+from tui.intake.profile import is_numeric_column, numeric_values
 from tui.intake.weights import FREQUENCY, check_weights
 
 
@@ -54,8 +55,10 @@ def open_adjustment(
         raise InputProblem(f"{weight!r} cannot be both a weight and an adjustment column")
     design = None
     if adjust:
-        numeric = {n: data.values(n) for n in adjust if n in data.columns}
-        text = {n: data.series(n).to_numpy(dtype=object) for n in adjust if n not in data.columns}
+        # Numeric by the values themselves: an excluded column is still a usable covariate.
+        series = {n: data.series(n) for n in adjust}
+        numeric = {n: numeric_values(v) for n, v in series.items() if is_numeric_column(v)}
+        text = {n: v.to_numpy(dtype=object) for n, v in series.items() if n not in numeric}
         try:
             design = build_covariates(list(adjust), numeric, text, forms or {})
         except CovariateError as problem:

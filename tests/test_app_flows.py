@@ -26,13 +26,16 @@ from tui.app.screens.triage import TriageScreen
 from tui.app.screens.value_prompt import ValuePrompt, parse_value
 from tui.app.session import ReviewSession, open_session
 from tui.app.widgets.forms_table import FormsTable
+from tui.app.widgets.key_table import CURSOR_MARK
 from tui.app.widgets.line import Line
+from tui.app.widgets.logit_plot import y_axis
 from tui.app.widgets.triage_table import TriageTable
 from tui.engine.counts import reduce_column
 from tui.engine.forms.registry import default_candidates
 from tui.engine.groups import logit_groups
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ScanSettings, rank
+from tui.intake.dataset import file_sha256
 
 SIZE = (80, 24)
 LOG = "fleet.recodings.json"
@@ -159,8 +162,56 @@ def test_open_a_column_and_move_through_its_forms(folder: Path) -> None:
             assert "quadratic" in text_of(screen, "#legend")
             await pilot.press("k")
             assert forms.highlighted_key() == "FP2"
+            assert marked_rows(forms) == ["FP2"]  # the cursor shows without colour too
+            await pilot.press("end")
+            assert forms.highlighted_key() == labels[-1]
+            assert marked_rows(forms) == [labels[-1]]
+            await pilot.press("home")
+            assert forms.highlighted_key() == labels[0]
+            assert marked_rows(forms) == [labels[0]]
+            table = screen.fits.table
+            lowest = min((r for r in table.rows if np.isfinite(r.aic)), key=lambda r: r.aic)
+            column = forms.get_column_index("best")
+            words = {k: forms.get_row(k)[column].plain.strip() for k in labels}
+            assert {k: w for k, w in words.items() if w} == {lowest.label: "best"}
             await pilot.press("escape")
             assert isinstance(app.screen, TriageScreen)
+            triage = app.screen.query_one(TriageTable)
+            await pilot.press("end")
+            assert marked_rows(triage) == [triage.highlighted_key()] == [app.session.order[-1]]
+            await pilot.press("home")
+            assert marked_rows(triage) == [app.session.order[0]]
+
+    run(go())
+
+
+def marked_rows(table) -> list[str]:
+    """Keys of the rows whose first cell starts with the cursor mark."""
+    keys = [table.coordinate_to_cell_key((i, 0))[0].value for i in range(table.row_count)]
+    return [k for k in keys if table.get_row(k)[0].plain.startswith(CURSOR_MARK)]
+
+
+def test_the_column_screen_shows_counts_flags_and_percentiles(folder: Path) -> None:
+    async def go() -> None:
+        app = ReviewApp(session_in(folder), quick_scanner)
+        async with app.run_test(size=SIZE) as pilot:
+            await settle(pilot)
+            session = app.session
+            screen = await open_column(pilot, "van_age_years")
+            profile = session.profile_of("van_age_years")
+            assert profile.missing > 0
+            counts = text_of(screen, "#counts")
+            assert f"n {profile.n} · missing {profile.missing} · distinct" in counts
+            evidence = text_of(screen, "#evidence")
+            low, high = screen.fits.tails
+            assert f"p5 {low:.6g} · p95 {high:.6g}" in evidence
+            assert "% of rows" not in evidence
+            await pilot.press("escape")
+            await settle(pilot)
+            flagged = session.scan_of("depot_code")
+            assert flagged is not None and flagged.flags
+            screen = await open_column(pilot, "depot_code")
+            assert f"flags {', '.join(flagged.flags)}" in text_of(screen, "#counts")
 
     run(go())
 
@@ -180,7 +231,7 @@ def test_cycle_groups_and_knots(folder: Path) -> None:
                 assert screen.groups == groups
                 assert screen.fits.groups == tuple(logit_groups(counts, groups))
                 assert screen.fits.table.row(f"bands, {groups} groups") is not None
-                assert f"g: {groups} groups" in text_of(screen, "#settings")
+                assert f"g {groups} groups" in text_of(screen, "#settings")
             await pilot.press("s")
             await settle(pilot)
             assert screen.knots == 5
@@ -280,7 +331,8 @@ def test_accept_saves_the_log_and_shows_the_recoded_rows(folder: Path) -> None:
             await pilot.press("enter")
             assert app.screen is screen
             assert "decided: quadratic" in text_of(screen, "#heading")
-            assert screen.query_one(FormsTable).get_row("quadratic")[0].plain.strip()[0] == "✓"
+            form_cell = screen.query_one(FormsTable).get_row("quadratic")[0].plain
+            assert form_cell.startswith(f"{CURSOR_MARK}✓ quadratic")
 
             saved = recodings.load_log(folder / LOG)
             decision = saved.decision_for("route_km")
@@ -317,7 +369,7 @@ def test_restart_with_the_same_log_shows_the_decision_then_remove_it(folder: Pat
             await settle(pilot)
             table = app.screen.query_one(TriageTable)
             name = table.get_row("route_km")[0].plain
-            assert name.strip().startswith("✓") and "route_km" in name
+            assert name[1:].startswith("✓") and "route_km" in name
             assert "1 of 7 decided" in text_of(app.screen, "#summary")
             await pilot.press("L")
             assert isinstance(app.screen, DecisionsScreen)
@@ -333,7 +385,8 @@ def test_restart_with_the_same_log_shows_the_decision_then_remove_it(folder: Pat
             assert recodings.load_log(folder / LOG).decisions == ()
             await pilot.press("escape")
             assert "0 of 7 decided" in text_of(app.screen, "#summary")
-            assert app.screen.query_one(TriageTable).get_row("route_km")[0].plain.startswith(" ")
+            name = app.screen.query_one(TriageTable).get_row("route_km")[0].plain
+            assert name[1] == " "  # no decision mark (the first cell is the cursor's)
 
     run(decide())
     assert recodings.load_log(folder / LOG).decision_for("route_km").note == "long routes are late"
@@ -507,6 +560,18 @@ def test_a_log_written_for_other_data_is_flagged(folder: Path) -> None:
             assert "sha256 differs" in text_of(app.screen, "#warning")
             assert app.screen.query_one("#warning").display
             assert session.decision_word("route_km") == "kept linear"
+            # The toast is one short line; the full text stays on the warning line.
+            toasts = [n.message for n in app._notifications]
+            assert toasts and all(len(t) < 60 and "\n" not in t for t in toasts)
+            await open_column(pilot, "stops")
+            await pilot.press("l", "enter")
+
+    run(check())
+    saved = recodings.load_log(folder / LOG)
+    assert saved.source.sha256 != file_sha256(folder / "fleet.csv")  # the first data's
+    judged_on = saved.decision_for("stops").evidence["data"]
+    assert judged_on == {"name": "fleet.csv", "sha256": file_sha256(folder / "fleet.csv")}
+    assert saved.decision_for("route_km").evidence["data"]["sha256"] == saved.source.sha256
 
     run(check())
 
@@ -597,7 +662,24 @@ def test_evidence_is_plain_json(folder: Path) -> None:
     decision = session.accept("van_age_years", row, 4, 4)
     assert all(
         v is None or isinstance(v, bool | int | float | str | list)
-        for v in decision.evidence.values()
+        for k, v in decision.evidence.items()
+        if k != "data"
     )
+    sha = file_sha256(folder / "fleet.csv")
+    assert decision.evidence["data"] == {"name": "fleet.csv", "sha256": sha}
     assert decision.evidence["lr_p"] is None  # no test against linear for log: shown as "-"
     assert np.isfinite(decision.evidence["aic"])
+
+
+@pytest.mark.parametrize(
+    ("bottom", "top", "rows"), [(-2.2, -1.1, 7), (-2.18, 2.02, 6), (0.4, 2.9, 19), (-0.3, -0.1, 2)]
+)
+def test_y_ticks_are_evenly_spaced_and_sit_on_canvas_rows(bottom, top, rows) -> None:
+    low, high, ticks, labels = y_axis(bottom, top, rows)
+    assert low <= bottom and high >= top
+    steps = np.diff(ticks)
+    assert np.allclose(steps, steps[0]) and steps[0] > 0
+    # plotext's own mapping of a value to a canvas row (plotext/_utility.py get_matrix_data)
+    position = [0.5 + (rows - 1) * (t - low) / (high - low) for t in ticks]
+    assert all(abs(p - 0.5 - round(p - 0.5)) < 1e-6 for p in position)
+    assert [float(label) for label in labels] == pytest.approx(ticks)

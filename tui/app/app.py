@@ -93,7 +93,8 @@ class ReviewApp(App[None]):
     def on_mount(self) -> None:
         self.push_screen(self.triage)
         if self.session.source_warning:
-            tell(self, self.session.source_warning, severity="warning", timeout=15)
+            # Short: a long toast covers the list. The full text stays on the warning line.
+            tell(self, "log written for other data: see the ! line", severity="warning", timeout=6)
         self.scan()
 
     @work(thread=True, exclusive=True, group="scan", exit_on_error=False)

@@ -29,7 +29,7 @@ from tui.engine.scan import ScanSettings, reduce_for_scan
 from tui.intake.dataset import ColumnarDataset, Dataset
 
 TAIL_SHARE = 0.05
-"""Share of rows in each tail named on the screen (where the data thin out)."""
+"""The tails named on the screen are the quantiles at this share and one minus it."""
 ROW_LEVEL_KEPT = 6
 """Adjusted fits keep every row (with its covariates): only this many are kept, the most
 recently used, so a long review of a large file does not fill the memory."""
@@ -79,7 +79,8 @@ class ColumnFits:
     table: ComparisonTable | None
     """Every candidate fitted; None when the column cannot be fitted."""
     tails: tuple[float, float] | None
-    """The x below which and above which ``TAIL_SHARE`` of the rows lie."""
+    """The ``TAIL_SHARE`` and ``1 - TAIL_SHARE`` quantiles of x (percentiles: a lumpy
+    column may hold far more than that share of its rows at either value)."""
     problem: str | None = None
     """Why the table is missing or holds the linear form only."""
 

@@ -89,6 +89,9 @@ class ReviewSession:
     """Columns whose score shown was not computed with ``base`` (working-model re-scores)."""
     model: tuple[str, ...] | None = None
     """Covariates of the last working-model re-score (None: first scan's scores shown)."""
+    data_sha256: str | None = None
+    """sha256 of the data file reviewed: each decision's evidence names the data it was
+    judged on, since a log reused on another extract keeps its first ``source``."""
 
     def __post_init__(self) -> None:
         self._profiles: dict[str, ColumnProfile] = {p.name: p for p in self.dataset.numeric}
@@ -320,6 +323,7 @@ class ReviewSession:
             "adjustment": self.describe_basis(column, basis),
             "weight": basis.weight,
             "weight_kind": basis.weight_kind,
+            "data": {"name": self.dataset.path.name, "sha256": self.data_sha256},
         }
         return {key: _plain(value) for key, value in evidence.items()}
 
@@ -392,4 +396,5 @@ def open_session(
         adjust=tuple(adjust),
         weight=weight,
         weight_kind=weight_kind if weight else None,
+        data_sha256=sha,
     )

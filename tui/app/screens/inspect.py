@@ -40,6 +40,8 @@ GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
 CUT_TIP = "Type a cut point for an indicator"
 HINGE_TIP = "Type the knot of a hinge"
+TAIL_PERCENT = round(TAIL_SHARE * 100)
+"""The tails are shown as the TAIL_PERCENT-th and (100 - TAIL_PERCENT)-th percentiles."""
 SHORT_BELOW = 32
 """Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
 
@@ -59,7 +61,7 @@ class InspectScreen(Screen[str]):
         Binding("escape", "back", "Back", tooltip="Back to the column list"),
         Binding("a", "accept", "Accept", tooltip="Accept the highlighted form"),
         Binding("l", "keep_linear", "Linear", tooltip="Keep the column linear"),
-        Binding("x", "set_aside", "Aside", tooltip="Set the column aside (not used)"),
+        Binding("x", "set_aside", "Set aside", tooltip="Set the column aside (not used)"),
         Binding("n", "note", "Note", tooltip="Add or edit the note on the column"),
         Binding("left_square_bracket", "step(-1)", "Prev", tooltip="Previous column"),
         Binding("right_square_bracket", "step(1)", "Next", tooltip="Next column"),
@@ -82,6 +84,7 @@ class InspectScreen(Screen[str]):
     def compose(self) -> ComposeResult:
         yield Line("", id="heading")
         yield Line("", id="evidence")
+        yield Line("", id="counts")
         yield Line("", id="adjusted")
         yield LogitPlot(id="plot")
         yield Line("", id="legend")
@@ -199,10 +202,12 @@ class InspectScreen(Screen[str]):
         elif scan is not None:
             parts.append(f"not scored ({', '.join(scan.flags) or 'see flags'})")
         if self.fits is not None and self.fits.tails is not None:
-            share = f"{TAIL_SHARE:.0%}"
+            # Percentiles, not shares of rows: a lumpy column can hold far more than 5%
+            # of its rows at the 5th percentile.
             low, high = (value_text(v) for v in self.fits.tails)
-            parts.append(f"{share} of rows < {low} · {share} > {high}")
+            parts.append(f"p{TAIL_PERCENT} {low} · p{100 - TAIL_PERCENT} {high}")
         self.query_one("#evidence", Line).update(" · ".join(parts))
+        self.query_one("#counts", Line).update(self._counts_text())
         basis = s.basis_of(self.column)
         adjusted = self.query_one("#adjusted", Line)
         adjusted.display = not basis.plain
@@ -217,8 +222,21 @@ class InspectScreen(Screen[str]):
         self.query_one("#note", Line).update(f"note: {note}" if note else "")
         self.query_one("#note").display = bool(note)
         self.query_one("#settings", Line).update(
-            f"g: {self.groups} groups · s: {self.knots} knots · c: own cut point · "
-            "h: own hinge knot · !: cautions"
+            f"g {self.groups} groups · s {self.knots} knots · c typed cut point · "
+            "h typed hinge knot · ! cautions"
+        )
+
+    def _counts_text(self) -> str:
+        """Values present, missing and distinct, and the scan's flags in words."""
+        s = self.session
+        profile = s.profile_of(self.column)
+        scan = s.scan_of(self.column)
+        flags = "when the scan reaches it"
+        if scan is not None:
+            flags = ", ".join(scan.flags) or "none"
+        return (
+            f"n {profile.n} · missing {profile.missing} · distinct {profile.distinct} · "
+            f"flags {flags}"
         )
 
     def _refresh_row(self) -> None:
@@ -246,7 +264,7 @@ class InspectScreen(Screen[str]):
         bt = fits.table.box_tidwell if fits.table is not None else None
         if row.kind == "linear" and bt is not None:
             words.append(f"Box–Tidwell power {bt.power:.2f}, p {p_text(bt.p_value)}")
-        notes.update(f"{form_text(row)}: " + ("; ".join(words) if words else "no notes"))
+        notes.update(f"form notes ({form_text(row)}): " + ("; ".join(words) or "none"))
         if row.kind in CUT_KINDS:
             caution.update(f"Caution: {CUT_CAUTION}")
             caution.display = True

@@ -269,7 +269,7 @@ class TriageScreen(Screen[None]):
         """Step to the next order of the list."""
         self.sort = SORTS[(SORTS.index(self.sort) + 1) % len(SORTS)]
         self.redraw()
-        tell(self, f"sorted by {self.sort}", timeout=2)
+        tell(self, f"sorted by {self.sort}", timeout=1)  # the summary line says it too
 
     def action_toggle_decided(self) -> None:
         """Hide or show the columns that already have a decision."""
@@ -314,7 +314,8 @@ class TriageScreen(Screen[None]):
             tell(self, why_not, severity="warning")
             return
         model = self.session.working_model()
-        tell(self, f"re-scoring in the working model: {', '.join(model)}", timeout=6)
+        size = f"{len(model)} column" + ("" if len(model) == 1 else "s")
+        tell(self, f"re-scoring in the working model ({size})", timeout=4)
 
     def action_first_scores(self) -> None:
         """Back to the first scan's scores."""

@@ -2,14 +2,24 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 from tui.app.fit_cache import ColumnFits
-from tui.app.text import number_text, p_text
+from tui.app.text import is_number, number_text, p_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 
 BY_HAND = "entered by hand"
 ACCEPTED_MARK = "✓"
+BEST_WORD = "best"
+"""Beside the AIC of the row with the lowest AIC (a word, not a colour)."""
+
+
+def lowest_aic(rows: Sequence[FormFit]) -> str | None:
+    """The label of the first row with the lowest AIC (None when no AIC is a number)."""
+    scored = [r for r in rows if is_number(r.aic)]
+    return min(scored, key=lambda r: r.aic).label if scored else None
 
 
 def row_notes(row: FormFit, by_hand: bool) -> list[str]:
@@ -27,14 +37,15 @@ def form_text(row: FormFit) -> str:
     return row.recoding.describe() if row.recoding is not None else row.label
 
 
-def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool) -> Row:
-    """A table row for one candidate, keyed by its label."""
+def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool, best: bool = False) -> Row:
+    """A table row for one candidate, keyed by its label; ``best``: lowest AIC."""
     mark = ACCEPTED_MARK if accepted is not None and row.recoding == accepted else " "
     return row.label, {
         "form": f"{mark} {form_text(row)}",
         "df": str(row.df) if row.recoding is not None else "-",
         "deviance": number_text(row.deviance),
         "aic": number_text(row.aic),
+        "best": BEST_WORD if best else "",
         "delta_aic": number_text(row.delta_aic),
         "lr_p": p_text(row.lr_p),
         "notes": "; ".join(row_notes(row, by_hand)) or "-",
@@ -49,6 +60,7 @@ class FormsTable(KeyTable):
         ColumnSpec("df", "df", 2, 2, True, 1),
         ColumnSpec("deviance", "deviance", 8, 9, True, 2),
         ColumnSpec("aic", "AIC", 8, 9, True, 3),
+        ColumnSpec("best", "", 4, 4, False, 3),
         ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 4),
         ColumnSpec("lr_p", "LR p", 7, 7, True, 5),
         ColumnSpec("notes", "notes", 10, 90, False, 6),
@@ -58,4 +70,5 @@ class FormsTable(KeyTable):
         """Show the candidates of ``fits``, marking the accepted one."""
         hand = fits.request.hand_labels()
         rows = fits.table.rows if fits.table is not None else ()
-        self.show_rows([form_row(r, accepted, r.label in hand) for r in rows])
+        best = lowest_aic(rows)
+        self.show_rows([form_row(r, accepted, r.label in hand, r.label == best) for r in rows])

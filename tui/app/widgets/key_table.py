@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
+from contextlib import suppress
 from dataclasses import dataclass, replace
 from typing import ClassVar
 
@@ -10,7 +11,7 @@ from rich.text import Text
 from textual import events
 from textual.binding import Binding
 from textual.widgets import DataTable
-from textual.widgets.data_table import RowDoesNotExist
+from textual.widgets.data_table import CellDoesNotExist, RowDoesNotExist
 
 
 @dataclass(frozen=True)
@@ -50,11 +51,16 @@ def fit_columns(specs: Sequence[ColumnSpec], room: int) -> list[tuple[ColumnSpec
     return [(s, widths[s.key]) for s in specs if s.key in chosen]
 
 
-def cell(text: str, width: int, right: bool) -> Text:
-    """A cell's text cut to its width, with one blank cell before it."""
+CURSOR_MARK = "▸"
+"""Put before the first field of the row under the cursor, so the cursor shows without
+colour too (NO_COLOR)."""
+
+
+def cell(text: str, width: int, right: bool, lead: str = " ") -> Text:
+    """A cell's text cut to its width, with ``lead`` (one cell) before it."""
     if len(text) > width:
         text = text[: width - 1] + "…"
-    return Text(" " + (text.rjust(width) if right else text.ljust(width)))
+    return Text(lead + (text.rjust(width) if right else text.ljust(width)))
 
 
 Row = tuple[str, dict[str, str]]
@@ -74,12 +80,16 @@ class KeyTable(DataTable):
     BINDINGS = [
         Binding("j", "cursor_down", "Down", show=False),
         Binding("k", "cursor_up", "Up", show=False),
+        # Rows, not sideways scrolling: nothing here scrolls sideways (see SPECS).
+        Binding("home", "scroll_top", "First row", show=False),
+        Binding("end", "scroll_bottom", "Last row", show=False),
     ]
 
     def __init__(self, *, id: str | None = None) -> None:  # noqa: A002 (Textual's name)
         super().__init__(id=id, cursor_type="row", zebra_stripes=True, cell_padding=0)
         self._shown: list[tuple[ColumnSpec, int]] = []
         self._rows: list[Row] = []
+        self._marked: str | None = None  # the row key drawn with CURSOR_MARK
 
     def on_resize(self, event: events.Resize) -> None:
         self._layout(event.size.width)
@@ -92,6 +102,7 @@ class KeyTable(DataTable):
         key = self.highlighted_key()
         self._fill()
         self.move_to_key(key)
+        self._mark_cursor()
 
     def highlighted_key(self) -> str | None:
         """The key of the row under the cursor."""
@@ -109,6 +120,30 @@ class KeyTable(DataTable):
         except RowDoesNotExist:  # filtered out, or not there yet
             index = 0
         self.move_cursor(row=index, animate=False)
+        self._mark_cursor()
+
+    def _on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        # Runs before the message bubbles on to the screen (it is not stopped).
+        self._mark_cursor()
+
+    def _mark_cursor(self) -> None:
+        """Draw CURSOR_MARK on the row under the cursor only."""
+        key = self.highlighted_key()
+        if key == self._marked or not self._shown:
+            return
+        fields = dict(self._rows)
+        spec, width = self._shown[0]
+        if self._marked is not None and self._marked in fields:
+            text = cell(fields[self._marked][spec.key], width, spec.right)
+            self._set_first(self._marked, spec.key, text)
+        if key is not None and key in fields:
+            text = cell(fields[key][spec.key], width, spec.right, CURSOR_MARK)
+            self._set_first(key, spec.key, text)
+        self._marked = key
+
+    def _set_first(self, row: str, column: str, text: Text) -> None:
+        with suppress(CellDoesNotExist, RowDoesNotExist):  # the rows were replaced meanwhile
+            self.update_cell(row, column, text)
 
     def specs(self) -> tuple[ColumnSpec, ...]:
         """The columns this table may show now (all of ``SPECS`` unless overridden)."""
@@ -136,6 +171,7 @@ class KeyTable(DataTable):
             self.add_column(cell(spec.header, w, spec.right), key=spec.key, width=w + 1)
         self._fill()
         self.move_to_key(key)
+        self._mark_cursor()
         return True
 
     def _longest(self, spec: ColumnSpec) -> int:
@@ -144,5 +180,6 @@ class KeyTable(DataTable):
 
     def _fill(self) -> None:
         self.clear()
+        self._marked = None
         for key, fields in self._rows:
             self.add_row(*(cell(fields[s.key], w, s.right) for s, w in self._shown), key=key)

@@ -11,10 +11,11 @@ from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import as_csv, as_json, as_table
+from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
-from tui.engine.scan import ScanSettings, rank
+from tui.engine.scan import ColumnScan, ScanSettings, rank
 from tui.intake.adjustment import open_adjustment
-from tui.intake.dataset import open_dataset
+from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
 from tui.intake.errors import InputProblem
 
 
@@ -35,6 +36,28 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     parser.set_defaults(run=run)
 
 
+def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
+    """A non-numeric column, listed with its counts so that nothing is silently dropped."""
+    present = data.series(column).notna().to_numpy()
+    profile = next(p for p in data.skipped if p.name == column)
+    return ColumnScan(
+        column=column,
+        rows=int(present.size),
+        n=int(present.sum()),
+        missing=int((~present).sum()),
+        events=int(data.outcome.y[present].sum()),
+        distinct=profile.distinct,
+        score=None,
+        df=None,
+        p_value=None,
+        q_value=None,
+        shape=None,
+        best_form=None,
+        delta_aic=None,
+        flags=(NOT_NUMERIC,),
+    )
+
+
 def run(args: argparse.Namespace) -> int:
     if args.output and Path(args.output).resolve() == Path(args.data).resolve():
         raise InputProblem(f"--output {args.output} would overwrite the data file")
@@ -50,7 +73,7 @@ def run(args: argparse.Namespace) -> int:
         results.append(result)
         progress.step(result.column)
     progress.close()
-    ranked = rank(results)
+    ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped])
     if args.format == "json":
         text = as_json(ranked)
     elif args.format == "csv":

@@ -9,6 +9,7 @@ import math
 from collections.abc import Sequence
 
 from tui.cautions import SHORT_CAUTION
+from tui.engine.flags import NOT_NUMERIC
 from tui.engine.scan import ColumnScan
 
 FIELDS = (
@@ -92,9 +93,10 @@ def as_table(
         lines.append("  ".join(cells).rstrip())
     lines.insert(1, "  ".join("-" * w for w in widths))
     scored = sum(1 for s in scans if s.score is not None)
+    numeric = sum(1 for s in scans if NOT_NUMERIC not in s.flags)
     lines.append("")
     lines.append(
-        f"{len(scans)} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
+        f"{numeric} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
         "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
     )
     if adjustment:

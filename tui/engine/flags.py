@@ -12,6 +12,8 @@ SEPARATION = "separation"
 NOT_CONVERGED = "not-converged"
 LOW_EVENTS = "low-events"
 NONPOSITIVE = "nonpositive"
+NOT_NUMERIC = "not-numeric"
+"""Listed so that no column is silently dropped; never scored."""
 
 FLAGS = (
     CONSTANT,
@@ -24,6 +26,7 @@ FLAGS = (
     NOT_CONVERGED,
     LOW_EVENTS,
     NONPOSITIVE,
+    NOT_NUMERIC,
 )
 
 FEW_VALUES_BELOW = 10

@@ -26,6 +26,7 @@ from tui.engine.forms.linear import LinearCandidate
 from tui.engine.forms.registry import default_candidates
 from tui.engine.groups import LogitGroup, logit_groups
 from tui.engine.scan import ScanSettings, reduce_for_scan
+from tui.engine.smoother import smoothed_log_odds
 from tui.intake.dataset import ColumnarDataset, Dataset
 
 TAIL_SHARE = 0.05
@@ -83,6 +84,8 @@ class ColumnFits:
     column may hold far more than that share of its rows at either value)."""
     problem: str | None = None
     """Why the table is missing or holds the linear form only."""
+    smoother: tuple[np.ndarray, np.ndarray] | None = None
+    """LOWESS of the outcome on x, on the log-odds scale (x, log-odds); None when absent."""
 
 
 class FitCache:
@@ -163,12 +166,13 @@ def _compute(request: FitRequest, counts: ReducedCounts) -> ColumnFits:
     if counts.distinct == 0:
         return ColumnFits(request, counts, (), None, None, "no finite values")
     groups = tuple(logit_groups(counts, request.groups))
+    smoother = smoothed_log_odds(counts)
     low, high = (float(v) for v in counts.quantile([TAIL_SHARE, 1 - TAIL_SHARE]))
     tails = (low, high)
     events, rows = counts.total_events, counts.rows
     if events == 0 or events == rows:
         problem = "every row has the same outcome: no form can be fitted"
-        return ColumnFits(request, counts, groups, None, tails, problem)
+        return ColumnFits(request, counts, groups, None, tails, problem, smoother)
     if counts.distinct_values <= 2:
         # Two values (or one) hold no curve: only the linear form applies.
         linear = ComparisonTable((fit_candidate(LinearCandidate(), counts),), None)
@@ -177,9 +181,9 @@ def _compute(request: FitRequest, counts: ReducedCounts) -> ColumnFits:
             if counts.distinct_values == 1
             else "two values only: a straight line joins them, so only linear applies"
         )
-        return ColumnFits(request, counts, groups, linear, tails, problem)
+        return ColumnFits(request, counts, groups, linear, tails, problem, smoother)
     with np.errstate(all="ignore"):
         table = compare_forms(
             counts, request.candidates(), groups=request.groups, knots=request.knots
         )
-    return ColumnFits(request, counts, groups, table, tails)
+    return ColumnFits(request, counts, groups, table, tails, None, smoother)

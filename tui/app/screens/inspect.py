@@ -246,7 +246,8 @@ class InspectScreen(Screen[str]):
         self.query_one(LogitPlot).draw(fits, row)
         adjusted = fits is not None and fits.counts.covariates is not None
         # The group logits are the column's own: the covariates are in the fits only.
-        legend = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE  · · linear"
+        legend = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE  + LOWESS"
+        legend += "  · · linear"
         if row is not None and row.kind != "linear" and row.fit is not None:
             legend += f"  ⠤⠤ {form_text(row)}"
         self.query_one("#legend", Line).update(legend)

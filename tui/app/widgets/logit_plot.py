@@ -2,7 +2,7 @@
 whiskers, the linear fit, and the highlighted candidate's curve, on the log-odds scale.
 
 Every mark differs by its character as well as its colour, so the plot reads the same
-without colour: groups ●, whiskers │, linear · · ·, candidate braille line.
+without colour: groups ●, whiskers │, linear · · ·, candidate braille line, LOWESS smoother +.
 """
 
 from __future__ import annotations
@@ -17,6 +17,7 @@ from tui.engine.compare import FormFit
 Z95 = 1.96
 """Whiskers reach ±1.96 standard errors of each group's empirical logit."""
 GROUP_MARK, WHISKER_MARK, LINEAR_MARK, CURVE_MARK = "●", "│", "·", "braille"
+SMOOTH_MARK = "+"
 CURVE_POINTS = 241
 FRAME_ROWS = 3
 """Rows plotext spends outside its canvas: the top and bottom axes and the x labels."""
@@ -80,6 +81,14 @@ class LogitPlot(PlotextPlot):
             plt.plot(
                 grid.tolist(), chosen.log_odds(grid).tolist(), marker=CURVE_MARK, color="orange"
             )
+        if fits.smoother is not None and fits.smoother[0].size:
+            sx, sy = fits.smoother
+            keep = (sy >= bottom) & (sy <= top)
+            step = max(1, int(sx.size // max(width // 3, 5)))  # sparse, so curves show through
+            plt.scatter(
+                sx[keep][::step].tolist(), sy[keep][::step].tolist(), marker=SMOOTH_MARK,
+                color="green",
+            )  # fmt: skip
         rows = max(self.size.height, 4)
         for m, centre, r in zip(medians, logits, reach, strict=True):
             ys = np.linspace(centre - r, centre + r, 3 * rows)

@@ -47,13 +47,6 @@ def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
         missing=int((~present).sum()),
         events=int(data.outcome.y[present].sum()),
         distinct=profile.distinct,
-        score=None,
-        df=None,
-        p_value=None,
-        q_value=None,
-        shape=None,
-        best_form=None,
-        delta_aic=None,
         flags=(NOT_NUMERIC,),
     )
 

@@ -59,22 +59,22 @@ class ColumnScan:
     """Events among the n rows."""
     distinct: int
     """Distinct finite values."""
-    score: float | None
-    """LR chi-square, spline vs linear; None when not scored."""
-    df: int | None
-    """Degrees of freedom of the score."""
-    p_value: float | None
-    """p-value of the score."""
-    q_value: float | None
-    """Benjamini-Hochberg q-value across scored columns (set by ``rank``)."""
-    shape: str | None
-    """Shape hint, None when not scored."""
-    best_form: str | None
-    """Label of the lowest-AIC candidate."""
-    delta_aic: float | None
-    """AIC of the best candidate minus AIC of linear."""
     flags: tuple[str, ...]
     """Warning words (see ``tui.engine.flags``)."""
+    score: float | None = None
+    """LR chi-square, spline vs linear; None when not scored."""
+    df: int | None = None
+    """Degrees of freedom of the score."""
+    p_value: float | None = None
+    """p-value of the score."""
+    q_value: float | None = None
+    """Benjamini-Hochberg q-value across scored columns (set by ``rank``)."""
+    shape: str | None = None
+    """Shape hint, None when not scored."""
+    best_form: str | None = None
+    """Label of the lowest-AIC candidate."""
+    delta_aic: float | None = None
+    """AIC of the best candidate minus AIC of linear."""
     minimum: float | None = None
     """Smallest finite value."""
     maximum: float | None = None
@@ -160,13 +160,6 @@ def scan_counts(
         missing=rows - n,
         events=int(round(counts.total_events)),
         distinct=distinct,
-        score=None,
-        df=None,
-        p_value=None,
-        q_value=None,
-        shape=None,
-        best_form=None,
-        delta_aic=None,
         flags=tuple(flags),
         minimum=minimum,
         maximum=maximum,

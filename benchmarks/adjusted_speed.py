@@ -6,7 +6,8 @@ Adjusted checks fit every row (the covariates break the reduction to counts), so
 measures the exact row-level path: the unadjusted scan for comparison, then the scan with
 the first five columns of the invented extract as linear covariates, on worker processes
 and in one process, and a spot check that one column's adjusted score equals a direct
-statsmodels fit of the same design. Timing belongs here, never in the test suite.
+statsmodels fit of the same design. Timing belongs here, never in the test suite. The
+printout is also written to benchmarks/results/adjusted_speed.md (``--results`` elsewhere).
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ REPO = Path(__file__).resolve().parent.parent
 if str(REPO) not in sys.path:  # run as a script from anywhere
     sys.path.insert(0, str(REPO))
 
+from benchmarks.results import recorded, results_path  # noqa: E402
 from benchmarks.synthetic import OUTCOME, make_extract  # noqa: E402
 from tui.engine.adjust import Adjustment  # noqa: E402
 from tui.engine.covariates import build_covariates  # noqa: E402
@@ -54,7 +56,19 @@ def main() -> int:
     parser.add_argument("--rows", type=int, default=100_000)
     parser.add_argument("--cols", type=int, default=50)
     parser.add_argument("--covariates", type=int, default=5)
+    parser.add_argument(
+        "--results",
+        type=Path,
+        default=results_path("adjusted_speed"),
+        help="results file to rewrite (default: benchmarks/results/adjusted_speed.md)",
+    )
     args = parser.parse_args()
+    with recorded("adjusted_speed", args.results):
+        _run(args)
+    return 0
+
+
+def _run(args: argparse.Namespace) -> None:
 
     frame, _planted = make_extract(args.rows, args.cols + args.covariates)
     names = [c for c in frame.columns if c != OUTCOME]
@@ -81,7 +95,6 @@ def main() -> int:
     direct = _direct_score(values_of(top.column), y.astype(float), covariates)
     print(f"spot check, {top.column}: bendwise {top.score:.6f}, statsmodels {direct:.6f}, "
           f"difference {abs(top.score - direct):.2e}")  # fmt: skip
-    return 0
 
 
 if __name__ == "__main__":

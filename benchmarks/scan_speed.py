@@ -16,7 +16,8 @@ Parquet, loads it once, and measures on that same data:
    of several bin bounds B against exact fits on every distinct value.
 
 Timing belongs here, never in the test suite. Absolute times depend on the machine and
-on whatever else it is running; the ratios and errors are the point.
+on whatever else it is running; the ratios and errors are the point. The printout is also
+written to benchmarks/results/scan_speed.md (``--results`` to write elsewhere).
 """
 
 from __future__ import annotations
@@ -42,6 +43,7 @@ if str(REPO) not in sys.path:  # run as a script from anywhere
 
 from benchmarks.memory import run_measured  # noqa: E402
 from benchmarks.naive import naive_scan_of_file  # noqa: E402
+from benchmarks.results import recorded, results_path  # noqa: E402
 from benchmarks.synthetic import OUTCOME, make_extract  # noqa: E402
 from tui.engine.compare import compare_forms  # noqa: E402
 from tui.engine.counts import reduce_column  # noqa: E402
@@ -70,6 +72,12 @@ def _parse() -> argparse.Namespace:
         help="also time and check bin bounds 250..4000 against exact fits (slow)",
     )
     parser.add_argument("--workdir", help="folder for the Parquet file (default: a temp one)")
+    parser.add_argument(
+        "--results",
+        type=Path,
+        default=results_path("scan_speed"),
+        help="results file to rewrite (default: benchmarks/results/scan_speed.md)",
+    )
     return parser.parse_args()
 
 
@@ -192,6 +200,12 @@ def _scaling(
 
 def main() -> int:
     args = _parse()
+    with recorded("scan_speed", args.results):
+        _run(args)
+    return 0
+
+
+def _run(args: argparse.Namespace) -> None:
     print(
         f"bendwise scan benchmark: N = {args.rows:,} rows, P = {args.cols} columns; "
         f"{os.cpu_count()} cores, Python {platform.python_version()}, "
@@ -268,7 +282,6 @@ def main() -> int:
             del frame
             _scaling(sizes, args.cols, {args.rows: (naive_s, engine_s)}, Path(folder))
     print(f"\nload average at end (1, 5, 15 min): {_load()}")
-    return 0
 
 
 def _load() -> str:

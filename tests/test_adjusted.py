@@ -22,7 +22,7 @@ def _glm(y, *cols, **kw):
 
 
 def test_adjusted_lr_and_aic_equal_statsmodels(rng):
-    # R11 extended: reference library statsmodels, GLM Binomial with the covariates in the design.
+    # Reference library statsmodels: GLM Binomial with the covariates in the design.
     n = 3000
     z1, z2 = rng.normal(size=n), rng.uniform(0, 1, n)
     x = np.exp(0.4 * z1) * rng.gamma(2.0, 1.0, n)  # positive, correlated with z1
@@ -48,7 +48,7 @@ def test_adjusted_lr_and_aic_equal_statsmodels(rng):
 
 
 def test_box_tidwell_for_gpa_adjusted_for_tuce_and_psi():
-    # R1 data (statsmodels.datasets.spector; Spector & Mazzeo 1980) with R7 (Box & Tidwell 1962),
+    # The grade data (statsmodels.datasets.spector; Spector & Mazzeo 1980), Box & Tidwell (1962),
     # computed directly with statsmodels.
     data = sm.datasets.spector.load_pandas().data
     y = data["GRADE"].to_numpy(float)

@@ -18,7 +18,7 @@ def _glm(y, *cols):
 
 
 def test_table_equals_direct_statsmodels_fits(rng):
-    # R11: deviance, AIC and LR figures equal statsmodels GLM Binomial of the same design.
+    # Reference library statsmodels: deviance, AIC and LR equal GLM Binomial of the same design.
     x = rng.gamma(3.0, 2.0, 1200)
     y = (rng.random(1200) < 1 / (1 + np.exp(-(np.log(x) - 1.5)))).astype(float)
     table = compare_forms(reduce_column(x, y))
@@ -39,7 +39,7 @@ def test_table_equals_direct_statsmodels_fits(rng):
 
 
 def test_box_tidwell_equals_direct_fit(rng):
-    # R7: Box & Tidwell (1962): x ln x added to the linear model, 1 df; power 1 + gamma/beta.
+    # Box & Tidwell (1962): x ln x added to the linear model, 1 df; power 1 + gamma/beta.
     x = rng.uniform(0.5, 6, 2000)
     y = (rng.random(2000) < 1 / (1 + np.exp(-(2 * np.sqrt(x) - 3)))).astype(float)
     bt = compare_forms(reduce_column(x, y)).box_tidwell
@@ -51,7 +51,7 @@ def test_box_tidwell_equals_direct_fit(rng):
 
 
 def test_breast_cancer_scores_equal_direct_statsmodels_fits():
-    # R12: sklearn.datasets.load_breast_cancer (Street, Wolberg & Mangasarian 1993, UCI);
+    # Open data: sklearn.datasets.load_breast_cancer (Street, Wolberg & Mangasarian 1993, UCI);
     # reference library statsmodels.
     data = load_breast_cancer()
     y = (data.target == 0).astype(float)  # malignant as the event
@@ -75,7 +75,7 @@ def test_breast_cancer_scores_equal_direct_statsmodels_fits():
 
 
 def test_separation_is_flagged_not_reported_as_a_fit():
-    # R13: sklearn.datasets.load_iris, setosa against the rest on petal length separates
+    # Open data: sklearn.datasets.load_iris, setosa against the rest on petal length separates
     # completely; statsmodels' converged flag alone does not catch it.
     iris = load_iris()
     x = iris.data[:, 2]

@@ -15,7 +15,7 @@ def _spector():
 
 
 def test_spector_grade_model_matches_published_estimates():
-    # R1: Spector & Mazzeo (1980); printed in Greene, Econometric Analysis 7th ed.,
+    # Spector & Mazzeo (1980); printed in Greene, Econometric Analysis 7th ed.,
     # Example 17.3, Table 17.1 (table and example number from memory).
     X, y = _spector()
     fit = fit_logistic(X, y, np.ones_like(y))
@@ -25,7 +25,7 @@ def test_spector_grade_model_matches_published_estimates():
 
 
 def test_spector_grade_model_equals_statsmodels():
-    # R11: reference library statsmodels, GLM Binomial on the same design.
+    # Reference library statsmodels: GLM Binomial on the same design.
     X, y = _spector()
     ref = sm.GLM(y, X, family=sm.families.Binomial()).fit()
     fit = fit_logistic(X, y, np.ones_like(y))
@@ -37,7 +37,7 @@ def test_spector_grade_model_equals_statsmodels():
 
 
 def test_reduced_counts_give_the_row_level_fit(rng):
-    # R11: a fit on per-distinct-value counts equals statsmodels on the individual rows.
+    # Reference library statsmodels: a fit on per-value counts equals one on the rows.
     x = rng.integers(0, 40, size=3000).astype(float)
     y = (rng.random(3000) < 1 / (1 + np.exp(-(0.1 * x - 2)))).astype(float)
     counts = reduce_column(x, y)
@@ -65,7 +65,7 @@ def test_huge_magnitudes_do_not_break_the_solver(rng):
 
 
 def test_complete_separation_is_flagged_from_the_fit():
-    # R13 in miniature: events exactly where x > 0; statsmodels may still report converged.
+    # Separation in miniature: events exactly where x > 0; statsmodels may still report converged.
     x = np.linspace(-3, 3, 60)
     y = (x > 0).astype(float)
     fit = fit_logistic(np.column_stack([np.ones(60), x]), y, np.ones(60))

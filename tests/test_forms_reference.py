@@ -12,7 +12,7 @@ from tui.engine.forms.fracpoly import POWERS, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import KNOT_PERCENTILES, SplineCandidate, spline_basis
 
-# R2: Harrell, Regression Modeling Strategies 2nd ed. (2015), §2.4.6 (table number from memory).
+# Harrell, Regression Modeling Strategies 2nd ed. (2015), §2.4.6 (table number from memory).
 HARRELL_PERCENTILES = {
     3: (0.10, 0.50, 0.90),
     4: (0.05, 0.35, 0.65, 0.95),
@@ -28,12 +28,12 @@ def _counts(x, rng):
 
 
 def test_knot_percentiles_are_the_tabulated_ones():
-    assert KNOT_PERCENTILES == HARRELL_PERCENTILES  # R2
+    assert KNOT_PERCENTILES == HARRELL_PERCENTILES  # Harrell (2015)
 
 
 @pytest.mark.parametrize("k", [3, 4, 5, 6, 7])
 def test_knots_equal_numpy_quantiles_of_the_rows(k, rng):
-    # R2 with R10: quantiles of the non-missing x, numpy's default method.
+    # Harrell (2015) knots as quantiles of the non-missing x, numpy's default method.
     x = np.round(rng.gamma(2.0, 3.0, size=2000), 1)  # ties on purpose
     x[::50] = np.nan
     learned = SplineCandidate(k).learn(_counts(x, rng))
@@ -42,7 +42,7 @@ def test_knots_equal_numpy_quantiles_of_the_rows(k, rng):
 
 
 def test_spline_basis_matches_the_published_formula(rng):
-    # R3: Stone & Koo (1985); Devlin & Weeks (1986); Harrell (2015), written out term by term.
+    # Stone & Koo (1985); Devlin & Weeks (1986); Harrell (2015), written out term by term.
     t = np.array([1.0, 2.5, 4.0, 7.0, 9.0])
     x = rng.uniform(0, 10, 200)
     k = t.size
@@ -60,7 +60,7 @@ def test_spline_basis_matches_the_published_formula(rng):
 
 @pytest.mark.parametrize("k", [3, 4, 5, 7])
 def test_spline_spans_the_same_space_as_patsy_natural_spline(k, rng):
-    # R4: reference library patsy, cr() natural cubic regression spline.
+    # Reference library patsy: cr() natural cubic regression spline.
     x = np.sort(rng.uniform(-2, 6, 400))
     t = np.quantile(x, HARRELL_PERCENTILES[k])
     ours = np.column_stack([np.ones(x.size), spline_basis(x, t)])
@@ -77,7 +77,7 @@ def test_spline_spans_the_same_space_as_patsy_natural_spline(k, rng):
 
 
 def test_spline_is_linear_beyond_the_outer_knots():
-    # R4: the restricted spline is linear in the tails.
+    # Stone & Koo (1985): the restricted spline is linear in the tails.
     t = [0.0, 1.0, 2.0, 3.0]
     tail = np.linspace(3.5, 20, 30)
     basis = spline_basis(tail, t)
@@ -87,20 +87,20 @@ def test_spline_is_linear_beyond_the_outer_knots():
 
 
 def test_fractional_polynomial_powers_and_model_counts():
-    # R5: Royston & Altman (1994); Royston & Sauerbrei (2008): 8 powers, 8 FP1 and 36 FP2 models.
+    # Royston & Altman (1994); Royston & Sauerbrei (2008): 8 powers, 8 FP1 and 36 FP2 models.
     assert POWERS == (-2.0, -1.0, -0.5, 0.0, 0.5, 1.0, 2.0, 3.0)
     assert len(list(itertools.combinations_with_replacement(POWERS, 2))) == 36
 
 
 def test_fp_df_counts_the_power_search(rng):
-    # R5: FP1 counted as 2 df, FP2 as 4 (Royston & Sauerbrei 2008).
+    # FP1 counted as 2 df, FP2 as 4 (Royston & Sauerbrei 2008).
     counts = _counts(rng.uniform(1, 5, 500), rng)
     assert Fp1Candidate().learn(counts).df == 2
     assert Fp2Candidate().learn(counts).df == 4
 
 
 def test_repeated_power_gives_x_to_p_and_x_to_p_log_x():
-    # R5: repeated powers p, p -> x^p and x^p ln x; p = 0 means ln.
+    # Royston & Altman (1994): repeated powers p, p -> x^p and x^p ln x; p = 0 means ln.
     x = np.array([0.5, 1.0, 2.0, 4.0])
     out = Recoding("fp2", {"powers": [2, 2], "shift": 0.0}).apply(x)
     np.testing.assert_allclose(out, np.column_stack([x**2, x**2 * np.log(x)]))
@@ -111,7 +111,7 @@ def test_repeated_power_gives_x_to_p_and_x_to_p_log_x():
 
 
 def test_shift_for_nonpositive_values(rng):
-    # R6: x - min(x) + delta, delta the smallest positive gap between sorted distinct values
+    # x - min(x) + delta, delta the smallest positive gap between sorted distinct values
     # (Royston & Sauerbrei 2008, from memory).
     x = np.array([-3.0, -3.0, -1.0, 0.0, 0.5, 2.0])
     shift = learn_shift(_counts(x, rng))

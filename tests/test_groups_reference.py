@@ -12,14 +12,14 @@ from tui.engine.groups import empirical_logit, group_edges, logit_groups
     [(0, 10, -3.0445, 2.0952), (3, 10, -0.7621, 0.4190)],
 )
 def test_empirical_logit_with_half_correction(events, n, logit, variance):
-    # R8: Haldane (1956); Anscombe (1956); Cox & Snell, Analysis of Binary Data (1989).
+    # Haldane (1956); Anscombe (1956); Cox & Snell, Analysis of Binary Data (1989).
     got_logit, got_var = empirical_logit(events, n)
     assert got_logit == pytest.approx(logit, abs=5e-5)
     assert got_var == pytest.approx(variance, abs=5e-5)
 
 
 def test_quartile_edges_equal_numpy_quantile(rng):
-    # R10: numpy.quantile default method (Hyndman & Fan 1996, type 7).
+    # Reference library numpy: numpy.quantile default method (Hyndman & Fan 1996, type 7).
     x = rng.exponential(2.0, 999)
     x[::37] = np.nan
     counts = reduce_column(x, (rng.random(999) < 0.4).astype(float))
@@ -28,7 +28,7 @@ def test_quartile_edges_equal_numpy_quantile(rng):
 
 
 def test_groups_count_rows_and_events_and_sit_at_medians(rng):
-    # R16: groups of x with their empirical logits at group medians (common practice;
+    # Groups of x with their empirical logits at group medians (common practice;
     # Hosmer, Lemeshow & Sturdivant, Applied Logistic Regression 3rd ed., ch. 4).
     x = rng.normal(50, 10, 800)
     y = (rng.random(800) < 0.25).astype(float)

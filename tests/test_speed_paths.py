@@ -35,7 +35,7 @@ def _curved(rng, n):
 
 
 def _statsmodels_score(x, y):
-    # R11: reference library statsmodels, GLM Binomial on every row.
+    # Reference library statsmodels: GLM Binomial on every row.
     ones = np.ones(x.size)
     knots = np.unique(np.quantile(x, KNOT_PERCENTILES[4]))
     family = sm.families.Binomial()
@@ -71,7 +71,7 @@ def test_binned_score_is_close_to_every_row(rng, tail):
     assert not result.exact
     naive = _statsmodels_score(x, y)
     assert naive > 50  # a clearly curved column, so the comparison means something
-    # The target: within 2% relative or 0.5 absolute.
+    # The accuracy target of the binned path: within 2% relative or 0.5 absolute.
     assert abs(result.score - naive) <= max(0.02 * naive, 0.5)
     # Bins cut at equal steps as well as at quantiles do far better (0.02% here); bins
     # at quantiles alone miss by 0.2 to 0.3% on these two columns.

@@ -4,7 +4,7 @@ A one-predictor logistic likelihood depends on the data only through the number 
 and of events at each distinct x, so grouping by distinct value loses nothing. When a
 column has more distinct values than ``max_levels`` (and enough rows for it to pay), rows
 are grouped into at most ``max_levels`` bins and each bin sits at the mean x of its rows:
-a close approximation, measured in DEVELOPERS.md. Half the bin edges are quantiles (equal
+a close approximation (benchmarks/results/scan_speed.md). Half the bin edges are quantiles (equal
 counts), half equal steps across the range (so that the tails of a skewed column are not
 lumped into a few wide bins). Knots and cut points still come from quantiles of every row.
 
@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 DEFAULT_MAX_LEVELS = 1000
-"""Distinct values kept exactly before binning (see DEVELOPERS.md for the choice)."""
+"""Distinct values kept exactly before binning (benchmarks/results/scan_speed.md: why)."""
 EXACT_BELOW_ROWS = 50_000
 """Below this many rows the reduction is always exact."""
 _QUANTILE_GRID = 2001
@@ -206,7 +206,7 @@ def _bin_bounds(xs: np.ndarray, bins: int) -> np.ndarray:
     """First sorted position of each of at most ``bins`` bins: half the cuts at equal
     counts (quantile bins), half at equal steps across the range, so that no bin is wide
     either (the wide bins of a skewed column's tail are what binning at quantiles alone
-    gets wrong; DEVELOPERS.md has the figures). Every cut falls where a new value begins,
+    gets wrong; benchmarks/results/scan_speed.md). Every cut falls where a new value begins,
     so ties are never split."""
     by_count = _equal_count_bounds(xs, max(1, bins // 2))
     steps = np.linspace(xs[0], xs[-1], bins - bins // 2 + 1)[1:-1]

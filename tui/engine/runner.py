@@ -3,7 +3,7 @@
 Each column is read once and reduced to counts (``reduce_for_scan``), then every candidate
 is fitted on the counts. Worker processes do this for one column at a time each. The fits
 are many small numpy calls that hold the interpreter lock, so threads barely overlap
-them and processes are the default (DEVELOPERS.md has the measurements). Results are the
+them and processes are the default (benchmarks/results/scan_speed.md). Results are the
 same numbers as a sequential scan: the same code runs on the same counts.
 """
 

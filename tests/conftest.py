@@ -28,3 +28,13 @@ def run_cli(*args: str, cwd: Path | None = None):
         cwd=cwd,
         timeout=600,
     )
+
+
+def pytest_addoption(parser: pytest.Parser) -> None:
+    default = float(os.environ.get("BENDWISE_SOAK_SECONDS", "5"))
+    parser.addoption(
+        "--soak-seconds",
+        type=float,
+        default=default,
+        help="how long the crash-save soak test kills savers (default 5, BENDWISE_SOAK_SECONDS)",
+    )

@@ -7,7 +7,7 @@ import sys
 from collections.abc import Sequence
 
 from tui import __version__
-from tui.cli import replay_cmd, report_cmd, review_cmd, scan_cmd, sql_cmd
+from tui.cli import diff_cmd, replay_cmd, report_cmd, review_cmd, scan_cmd, sql_cmd
 from tui.intake.errors import InputProblem
 
 
@@ -32,6 +32,7 @@ def build_parser() -> argparse.ArgumentParser:
     replay_cmd.add_parser(commands)
     sql_cmd.add_parser(commands)
     report_cmd.add_parser(commands)
+    diff_cmd.add_parser(commands)
     return parser
 
 

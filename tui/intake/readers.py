@@ -25,7 +25,8 @@ T = TypeVar("T")
 SUPPORTED = frozenset(
     {".csv", ".tsv", ".txt", ".parquet", ".feather", ".sas7bdat", ".xpt", ".dta", ".sav"}
 )
-"""File extensions bendwise reads (compared case-insensitively); ``.sav`` needs pyreadstat."""
+"""File extensions bendwise reads (compared case-insensitively); ``.sav`` and version 8
+``.xpt`` need pyreadstat."""
 
 _SEPARATORS = {".csv": ",", ".tsv": "\t"}
 _COLUMNAR = {".parquet", ".feather"}
@@ -181,10 +182,13 @@ def _read(file: Path, ext: str, columns: list[str] | None) -> pd.DataFrame:
         frame = _attempt(file, kind, lambda: pd.read_feather(file, columns=columns))
     elif ext in {".sas7bdat", ".xpt"}:
         fmt = "xport" if ext == ".xpt" else "sas7bdat"
-        # encoding="infer" decodes text columns instead of handing back bytes.
-        frame = _attempt(file, kind, lambda: pd.read_sas(file, format=fmt, encoding="infer"))
-        if ext == ".xpt":
-            frame = _restore_xport_zeros(frame)
+        if ext == ".xpt" and _is_xport_v8(file):
+            frame = _attempt(file, kind, lambda: _read_xport_v8(file))
+        else:
+            # encoding="infer" decodes text columns instead of handing back bytes.
+            frame = _attempt(file, kind, lambda: pd.read_sas(file, format=fmt, encoding="infer"))
+            if ext == ".xpt":
+                frame = _restore_xport_zeros(frame)
         if columns is not None:
             frame = frame[columns]
     elif ext == ".dta":
@@ -318,6 +322,9 @@ def _without_index(schema: Any) -> list[str]:
 
 
 def _sas_names(file: Path, ext: str) -> list[str]:
+    if ext == ".xpt" and _is_xport_v8(file):
+        _, meta = _pyreadstat(_XPORT_V8_NEED).read_xport(str(file), metadataonly=True)
+        return [str(name) for name in meta.column_names]
     fmt = "xport" if ext == ".xpt" else "sas7bdat"
     with pd.read_sas(file, format=fmt, encoding="infer", iterator=True) as reader:
         names = reader.columns if ext == ".xpt" else reader.column_names
@@ -329,13 +336,35 @@ def _stata_names(file: Path) -> list[str]:
         return list(reader.variable_labels())
 
 
-def _pyreadstat() -> Any:
+def _is_xport_v8(file: Path) -> bool:
+    """Whether a transport file is version 8/9 (long names), from its first header record.
+
+    Version 5 files open with ``LIBRARY HEADER RECORD`` and version 8 files with ``LIBV8``
+    in its place (SAS, "The Record Layout of SAS Version 8 and 9 Transport Files").
+    """
+    try:
+        with file.open("rb") as handle:
+            first = handle.read(80)
+    except OSError as exc:
+        raise InputProblem(f"cannot read {file}: {_reason(exc)}") from exc
+    return first.startswith(b"HEADER RECORD*******LIBV8 ")
+
+
+def _read_xport_v8(file: Path) -> pd.DataFrame:
+    # pandas reads only version 5; pyreadstat decodes IBM floats itself (zeros stay zero).
+    frame, _ = _pyreadstat(_XPORT_V8_NEED).read_xport(str(file))
+    return frame
+
+
+_XPORT_V8_NEED = "reading version 8 SAS transport files"
+
+
+def _pyreadstat(need: str = "reading .sav files") -> Any:
     try:
         import pyreadstat
     except ImportError as exc:
         raise InputProblem(
-            "reading .sav files needs the optional SPSS support; "
-            "install it with: pip install 'bendwise[spss]'"
+            f"{need} needs the optional SPSS support; install it with: pip install 'bendwise[spss]'"
         ) from exc
     return pyreadstat
 

@@ -13,7 +13,7 @@ from pathlib import Path
 from conftest import SAMPLE
 
 from tui import __version__
-from tui.engine.forms import Recoding
+from tui.engine.forms import Recoding, make_recoding
 from tui.recodings import Decision, RecodingLog, SetAside, SourceInfo
 
 GOLDEN = Path(__file__).resolve().parent / "golden"
@@ -28,26 +28,30 @@ WHEN = "2026-03-02T09:15:00+00:00"
 
 # (column, recoding, training range) for every kind, repeated powers and clip included.
 EVERY_KIND: list[tuple[str, Recoding, tuple[float, float]]] = [
-    ("age_years", Recoding("linear", {}), (18.0, 95.0)),
-    ("crp_mg_l", Recoding("log", {"shift": 0.0}), (0.2, 246.8)),
-    ("weight_change_kg", Recoding("log", {"shift": 12.0}), (-11.8, 10.2)),
-    ("blood_loss_ml", Recoding("fp1", {"power": 0.5, "shift": 0.0}), (5.0, 3877.0)),
-    ("preop_stay_hours", Recoding("fp1", {"power": 0, "shift": 0.0}), (2.0, 323.0)),
-    ("creatinine_umol_l", Recoding("fp2", {"powers": [-2, -1], "shift": 0.0}), (30.0, 1026.0)),
-    ("glucose_mmol_l", Recoding("fp2", {"powers": [0, 0], "shift": 0.0}), (3.0, 12.0)),
-    ("wbc_10e9_l", Recoding("fp2", {"powers": [0.5, 0.5], "shift": 0.0}), (2.0, 15.0)),
-    ("bmi", Recoding("quadratic", {}, clip=(16.0, 45.0)), (16.0, 55.0)),
-    ("sodium_mmol_l", Recoding("spline", {"knots": [133.0, 138.0, 141.0, 146.0]}), (126, 152)),
-    ("albumin_g_l", Recoding("spline", {"knots": [30.0, 38.0, 45.0]}), (18.0, 55.0)),
+    ("age_years", make_recoding("linear", {}), (18.0, 95.0)),
+    ("crp_mg_l", make_recoding("log", {"shift": 0.0}), (0.2, 246.8)),
+    ("weight_change_kg", make_recoding("log", {"shift": 12.0}), (-11.8, 10.2)),
+    ("blood_loss_ml", make_recoding("fp1", {"power": 0.5, "shift": 0.0}), (5.0, 3877.0)),
+    ("preop_stay_hours", make_recoding("fp1", {"power": 0, "shift": 0.0}), (2.0, 323.0)),
+    ("creatinine_umol_l", make_recoding("fp2", {"powers": [-2, -1], "shift": 0.0}), (30.0, 1026.0)),
+    ("glucose_mmol_l", make_recoding("fp2", {"powers": [0, 0], "shift": 0.0}), (3.0, 12.0)),
+    ("wbc_10e9_l", make_recoding("fp2", {"powers": [0.5, 0.5], "shift": 0.0}), (2.0, 15.0)),
+    ("bmi", make_recoding("quadratic", {}, clip=(16.0, 45.0)), (16.0, 55.0)),
+    ("sodium_mmol_l", make_recoding("spline", {"knots": [133.0, 138.0, 141.0, 146.0]}), (126, 152)),
+    ("albumin_g_l", make_recoding("spline", {"knots": [30.0, 38.0, 45.0]}), (18.0, 55.0)),
     (
         "temperature_c",
-        Recoding("spline", {"knots": [36.1, 36.4, 36.6, 36.8, 37.0, 37.2, 37.6]}),
+        make_recoding("spline", {"knots": [36.1, 36.4, 36.6, 36.8, 37.0, 37.2, 37.6]}),
         (35.5, 38.4),
     ),
-    ("operation_minutes", Recoding("hinge", {"knot": 150.0}, clip=(20.0, 380.0)), (20.0, 380.0)),
-    ("hba1c_pct", Recoding("indicator", {"cut": 6.5}), (4.2, 13.5)),
-    ("incision_length_cm", Recoding("bands", {"edges": [5.0, 9.5, 15.0]}), (2.0, 40.0)),
-    ("haemoglobin_g_l", Recoding("linear", {}, clip=(90.0, 170.0)), (70.0, 185.0)),
+    (
+        "operation_minutes",
+        make_recoding("hinge", {"knot": 150.0}, clip=(20.0, 380.0)),
+        (20.0, 380.0),
+    ),
+    ("hba1c_pct", make_recoding("indicator", {"cut": 6.5}), (4.2, 13.5)),
+    ("incision_length_cm", make_recoding("bands", {"edges": [5.0, 9.5, 15.0]}), (2.0, 40.0)),
+    ("haemoglobin_g_l", make_recoding("linear", {}, clip=(90.0, 170.0)), (70.0, 185.0)),
 ]
 
 

@@ -77,12 +77,12 @@ async def fill_in(pilot, text: str) -> None:
     await pilot.press("enter")
 
 
-async def highlight_form(pilot, label: str) -> None:
-    """Put the candidate table's cursor on ``label`` (the redraw follows the cursor)."""
+async def highlight_form(pilot, key: str) -> None:
+    """Put the candidate table's cursor on the form ``key`` (the redraw follows the cursor)."""
     table = pilot.app.screen.query_one(FormsTable)
-    table.move_to_key(label)
+    table.move_to_key(key)
     await pilot.pause()
-    assert table.highlighted_key() == label
+    assert table.highlighted_key() == key
 
 
 def test_scan_fills_the_list_in_the_engines_order(folder: Path) -> None:
@@ -152,28 +152,28 @@ def test_open_a_column_and_move_through_its_forms(folder: Path) -> None:
             await settle(pilot)
             screen = await open_column(pilot, "route_km")
             forms = screen.query_one(FormsTable)
-            labels = [c.label for c in default_candidates()]
+            keys = [c.key for c in default_candidates()]  # rows are keyed by form key
             assert [
                 forms.coordinate_to_cell_key((i, 0))[0].value for i in range(forms.row_count)
-            ] == labels
+            ] == keys
             assert "route_km · 1 of 7 · undecided" in text_of(screen, "#heading")
             await pilot.press("j", "j", "j", "j")  # linear, log, FP1, FP2, quadratic
             assert forms.highlighted_key() == "quadratic"
             assert "quadratic" in text_of(screen, "#legend")
             await pilot.press("k")
-            assert forms.highlighted_key() == "FP2"
-            assert marked_rows(forms) == ["FP2"]  # the cursor shows without colour too
+            assert forms.highlighted_key() == "fp2"
+            assert marked_rows(forms) == ["fp2"]  # the cursor shows without colour too
             await pilot.press("end")
-            assert forms.highlighted_key() == labels[-1]
-            assert marked_rows(forms) == [labels[-1]]
+            assert forms.highlighted_key() == keys[-1]
+            assert marked_rows(forms) == [keys[-1]]
             await pilot.press("home")
-            assert forms.highlighted_key() == labels[0]
-            assert marked_rows(forms) == [labels[0]]
+            assert forms.highlighted_key() == keys[0]
+            assert marked_rows(forms) == [keys[0]]
             table = screen.fits.table
             lowest = min((r for r in table.rows if np.isfinite(r.aic)), key=lambda r: r.aic)
             column = forms.get_column_index("best")
-            words = {k: forms.get_row(k)[column].plain.strip() for k in labels}
-            assert {k: w for k, w in words.items() if w} == {lowest.label: "best"}
+            words = {k: forms.get_row(k)[column].plain.strip() for k in keys}
+            assert {k: w for k, w in words.items() if w} == {lowest.key: "best"}
             await pilot.press("escape")
             assert isinstance(app.screen, TriageScreen)
             triage = app.screen.query_one(TriageTable)
@@ -230,12 +230,13 @@ def test_cycle_groups_and_knots(folder: Path) -> None:
                 await settle(pilot)
                 assert screen.groups == groups
                 assert screen.fits.groups == tuple(logit_groups(counts, groups))
-                assert screen.fits.table.row(f"bands, {groups} groups") is not None
+                assert screen.fits.table.row("bands").label == f"bands, {groups} groups"
                 assert f"g {groups} groups" in text_of(screen, "#settings")
             await pilot.press("s")
             await settle(pilot)
             assert screen.knots == 5
-            assert screen.query_one(FormsTable).highlighted_key() == "spline, 5 knots"
+            assert screen.query_one(FormsTable).highlighted_key() == "spline"
+            assert screen.highlighted().label == "spline, 5 knots"
             await highlight_form(pilot, "quadratic")
             await pilot.press("g", "g")  # the second comes before the first fits are in
             await settle(pilot)
@@ -266,7 +267,7 @@ def test_enter_a_cut_point_by_hand(folder: Path) -> None:
             await pilot.press("c", *"25", "enter")
             await settle(pilot)
             forms = screen.query_one(FormsTable)
-            assert forms.highlighted_key() == "indicator x < 25"
+            assert forms.highlighted_key() == "indicator@25.0"
             row = screen.highlighted()
             assert row.recoding.params == {"cut": 25.0}
             assert "entered by hand" in text_of(screen, "#notes")
@@ -275,7 +276,7 @@ def test_enter_a_cut_point_by_hand(folder: Path) -> None:
             await pilot.press("h")
             await fill_in(pilot, "30.5")
             await settle(pilot)
-            assert forms.highlighted_key() == "hinge at 30.5"
+            assert forms.highlighted_key() == "hinge@30.5"
 
     run(go())
 
@@ -356,7 +357,7 @@ def test_restart_with_the_same_log_shows_the_decision_then_remove_it(folder: Pat
         async with app.run_test(size=SIZE) as pilot:
             await settle(pilot)
             await open_column(pilot, "route_km")
-            await highlight_form(pilot, "spline, 4 knots")
+            await highlight_form(pilot, "spline")
             await pilot.press("a", "enter", "n")
             await fill_in(pilot, "long routes are late")
             await pilot.press("q")
@@ -625,7 +626,7 @@ def test_settings_from_the_command_line_start_the_inspection(folder: Path) -> No
             await settle(pilot)
             screen = await open_column(pilot, "route_km")
             assert (screen.groups, screen.knots) == (10, 3)
-            assert screen.fits.table.row("spline, 3 knots") is not None
+            assert screen.fits.table.row("spline").label == "spline, 3 knots"
             assert len(screen.fits.groups) == 10
             await pilot.press("g")
             assert screen.groups == 20

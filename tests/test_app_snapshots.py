@@ -107,7 +107,7 @@ def test_cut_point_prompt(snap_compare, folder: Path, size: tuple[int, int]) -> 
 @pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
 def test_recorded_view(snap_compare, folder: Path, size: tuple[int, int]) -> None:
     async def before(pilot) -> None:
-        await into_column(pilot, "route_km", "spline, 4 knots")
+        await into_column(pilot, "route_km", "spline")
         await pilot.press("a")
 
     assert snap_compare(fresh_app(folder), terminal_size=size, run_before=before)
@@ -149,7 +149,7 @@ def test_adjusted_inspection(snap_compare, folder: Path, size: tuple[int, int]) 
     async def before(pilot) -> None:
         await settle(pilot)
         await pilot.press("m")
-        await into_column(pilot, "parcel_kg", "spline, 4 knots")
+        await into_column(pilot, "parcel_kg", "spline")
         pilot.app.clear_notifications()
         await pilot.pause()
 

@@ -7,7 +7,7 @@ import patsy
 import pytest
 
 from tui.engine.counts import reduce_column
-from tui.engine.forms import KINDS, Recoding, RecodingError, default_candidates
+from tui.engine.forms import KINDS, RecodingError, default_candidates, make_recoding
 from tui.engine.forms.fracpoly import POWERS, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import KNOT_PERCENTILES, SplineCandidate, spline_basis
@@ -102,11 +102,11 @@ def test_fp_df_counts_the_power_search(rng):
 def test_repeated_power_gives_x_to_p_and_x_to_p_log_x():
     # Royston & Altman (1994): repeated powers p, p -> x^p and x^p ln x; p = 0 means ln.
     x = np.array([0.5, 1.0, 2.0, 4.0])
-    out = Recoding("fp2", {"powers": [2, 2], "shift": 0.0}).apply(x)
+    out = make_recoding("fp2", {"powers": [2, 2], "shift": 0.0}).apply(x)
     np.testing.assert_allclose(out, np.column_stack([x**2, x**2 * np.log(x)]))
-    out0 = Recoding("fp2", {"powers": [0, 0], "shift": 0.0}).apply(x)
+    out0 = make_recoding("fp2", {"powers": [0, 0], "shift": 0.0}).apply(x)
     np.testing.assert_allclose(out0, np.column_stack([np.log(x), np.log(x) ** 2]))
-    out1 = Recoding("fp1", {"power": 0, "shift": 0.0}).apply(x)
+    out1 = make_recoding("fp1", {"power": 0, "shift": 0.0}).apply(x)
     np.testing.assert_allclose(out1[:, 0], np.log(x))
 
 
@@ -122,18 +122,18 @@ def test_shift_for_nonpositive_values(rng):
 @pytest.mark.parametrize(
     "recoding, x, expected",
     [
-        (Recoding("linear", {}), [1.0, -2.0], [[1.0], [-2.0]]),
-        (Recoding("log", {"shift": 1.0}), [0.0, np.e - 1], [[0.0], [1.0]]),
-        (Recoding("quadratic", {}), [3.0], [[3.0, 9.0]]),
-        (Recoding("hinge", {"knot": 2.0}), [1.0, 5.0], [[1.0, 0.0], [5.0, 3.0]]),
-        (Recoding("indicator", {"cut": 2.0}), [1.0, 2.0, 3.0], [[1.0], [0.0], [0.0]]),
+        (make_recoding("linear", {}), [1.0, -2.0], [[1.0], [-2.0]]),
+        (make_recoding("log", {"shift": 1.0}), [0.0, np.e - 1], [[0.0], [1.0]]),
+        (make_recoding("quadratic", {}), [3.0], [[3.0, 9.0]]),
+        (make_recoding("hinge", {"knot": 2.0}), [1.0, 5.0], [[1.0, 0.0], [5.0, 3.0]]),
+        (make_recoding("indicator", {"cut": 2.0}), [1.0, 2.0, 3.0], [[1.0], [0.0], [0.0]]),
         (
-            Recoding("bands", {"edges": [1.0, 2.0]}),
+            make_recoding("bands", {"edges": [1.0, 2.0]}),
             [0.5, 1.0, 1.5, 2.0, 9.0],
             [[0, 0], [1, 0], [1, 0], [0, 1], [0, 1]],
         ),
-        (Recoding("linear", {}, clip=(0.0, 1.0)), [-5.0, 0.5, 5.0], [[0.0], [0.5], [1.0]]),
-        (Recoding("log", {"shift": 0.0}), [-1.0, 0.0], [[np.nan], [np.nan]]),
+        (make_recoding("linear", {}, clip=(0.0, 1.0)), [-5.0, 0.5, 5.0], [[0.0], [0.5], [1.0]]),
+        (make_recoding("log", {"shift": 0.0}), [-1.0, 0.0], [[np.nan], [np.nan]]),
     ],
 )
 def test_every_kind_applies_its_numbers(recoding, x, expected):
@@ -146,7 +146,7 @@ def test_missing_x_gives_missing_outputs():
         ("bands", {"edges": [1.0]}),
         ("indicator", {"cut": 1.0}),
     ]:
-        out = Recoding(kind, params).apply(np.array([np.nan, 1.5]))
+        out = make_recoding(kind, params).apply(np.array([np.nan, 1.5]))
         assert np.all(np.isnan(out[0])) and np.all(np.isfinite(out[1]))
 
 
@@ -164,7 +164,7 @@ def test_missing_x_gives_missing_outputs():
 )
 def test_bad_numbers_are_refused_naming_the_field(kind, params, where):
     with pytest.raises(RecodingError, match=where):
-        Recoding(kind, params).validate()
+        make_recoding(kind, params).validate()
 
 
 def test_every_kind_is_registered():
@@ -180,7 +180,7 @@ def test_learning_then_applying_needs_only_the_numbers(rng):
     fresh = rng.lognormal(1.0, 0.6, 300)
     for cand in default_candidates():
         learned = cand.learn(counts).recoding
-        rebuilt = Recoding(learned.kind, dict(learned.params))
+        rebuilt = make_recoding(learned.kind, dict(learned.params))
         np.testing.assert_array_equal(learned.apply(fresh), rebuilt.apply(fresh))
 
 

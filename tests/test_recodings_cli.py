@@ -13,7 +13,7 @@ from recodings_cases import FRESH, TRAINING, every_kind_log, output_columns
 
 from tui import atomic, recodings
 from tui.cli.main import main
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.intake import read_table
 from tui.recodings import Decision
 
@@ -95,7 +95,7 @@ def test_strict_range_refuses_and_writes_nothing(tmp_path, fresh_log_file):
 
 def test_missing_and_text_columns_are_all_named_and_nothing_is_written(tmp_path):
     log = every_kind_log()
-    ward = Decision.make("ward", Recoding("linear", {}), (0, 1), taken=log.output_names())
+    ward = Decision.make("ward", make_recoding("linear", {}), (0, 1), taken=log.output_names())
     path = tmp_path / "bad.recodings.json"
     recodings.save(log.with_decision(ward), path)
     out = tmp_path / "fresh_replayed.csv"

@@ -12,7 +12,7 @@ import pytest
 from recodings_cases import every_kind_log, golden_text, read_golden
 
 from tui import atomic, recodings
-from tui.engine.forms import KINDS, Recoding
+from tui.engine.forms import KINDS, make_recoding
 from tui.intake import InputProblem
 from tui.recodings import Decision, LogProblem
 
@@ -67,7 +67,7 @@ def test_output_names_follow_the_documented_rule():
         "incision_length_cm__band3",
     )
     # A name already taken gets _2.
-    clash = Decision.make("bmi", Recoding("linear", {}), (0, 1), taken={"bmi__lin"})
+    clash = Decision.make("bmi", make_recoding("linear", {}), (0, 1), taken={"bmi__lin"})
     assert clash.outputs == ("bmi__lin_2",)
 
 
@@ -91,10 +91,13 @@ def test_evidence_numbers_become_plain_json():
 @pytest.mark.parametrize(
     "change, where",
     [
-        (lambda d: replace(d, recoding=Recoding("spline", {"knots": [3.0, 1.0, 2.0]})), "knots"),
+        (
+            lambda d: replace(d, recoding=make_recoding("spline", {"knots": [3.0, 1.0, 2.0]})),
+            "knots",
+        ),
         (lambda d: replace(d, outputs=("age_years__lin", "extra")), "outputs"),
         (lambda d: replace(d, outputs=("crp_mg_l__log",)), "outputs[0]"),
-        (lambda d: replace(d, recoding=Recoding("linear", {}, clip=(5.0, 1.0))), "clip"),
+        (lambda d: replace(d, recoding=make_recoding("linear", {}, clip=(5.0, 1.0))), "clip"),
     ],
 )
 def test_save_refuses_a_log_that_would_not_load(tmp_path, change, where):

@@ -10,7 +10,7 @@ from recodings_cases import EVERY_KIND, FRESH, OUTCOME, TRAINING, every_kind_log
 
 from tui import recodings
 from tui.engine.counts import reduce_column
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.engine.forms.bands import BandsCandidate
 from tui.engine.forms.base import design_matrix, fit_on_counts
 from tui.engine.forms.registry import default_candidates
@@ -182,8 +182,8 @@ def test_booleans_and_nullable_integers_replay_as_numbers():
         1,
         SourceInfo("t.csv", 3, "0" * 64),
         (
-            Decision.make("flag", Recoding("linear", {}), (0, 1)),
-            Decision.make("count", Recoding("linear", {}), (0, 9)),
+            Decision.make("flag", make_recoding("linear", {}), (0, 1)),
+            Decision.make("count", make_recoding("linear", {}), (0, 9)),
         ),
     )
     frame = pd.DataFrame(

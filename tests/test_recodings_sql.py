@@ -17,7 +17,7 @@ from recodings_cases import (
 )
 
 from tui import recodings
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.intake import read_table
 from tui.recodings import Decision, RecodingLog, SourceInfo
 from tui.recodings.sql import DIALECTS, table_reference
@@ -117,8 +117,8 @@ def test_nan_and_infinity_stored_in_the_database_count_as_missing():
         1,
         SourceInfo("t.csv", 4, "0" * 64),
         (
-            Decision.make("x", Recoding("indicator", {"cut": 2.0}), (0, 5)),
-            Decision.make("z", Recoding("log", {"shift": 0.0}), (0, 5)),
+            Decision.make("x", make_recoding("indicator", {"cut": 2.0}), (0, 5)),
+            Decision.make("z", make_recoding("log", {"shift": 0.0}), (0, 5)),
         ),
     )
     con = duckdb.connect()
@@ -141,7 +141,7 @@ def test_any_column_name_is_quoted_safely_in_duckdb():
     decisions = []
     taken: set[str] = set()
     for name in odd:
-        d = Decision.make(name, Recoding("hinge", {"knot": 1.0}), (0, 3), taken=taken)
+        d = Decision.make(name, make_recoding("hinge", {"knot": 1.0}), (0, 3), taken=taken)
         taken |= set(d.outputs)
         decisions.append(d)
     log = RecodingLog(OUTCOME, 1, SourceInfo("t.csv", 3, "0" * 64), tuple(decisions))
@@ -168,7 +168,7 @@ def test_table_names_are_quoted_part_by_part():
 def test_line_breaks_in_names_cannot_end_a_comment_early():
     # Names reach the SQL in comments too; a line break there would turn the rest into code.
     name = "x\nDROP TABLE t; --"
-    decision = Decision.make(name, Recoding("linear", {}), (0, 1))
+    decision = Decision.make(name, make_recoding("linear", {}), (0, 1))
     log = RecodingLog(OUTCOME, 1, SourceInfo("t\nDROP TABLE t;.csv", 1, "0" * 64), (decision,))
     text = recodings.to_sql(log, "duckdb", "t")
     assert all(line.startswith("--") for line in text.splitlines()[:2])

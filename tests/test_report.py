@@ -12,7 +12,7 @@ from conftest import SAMPLE, run_cli
 
 from tui import recodings
 from tui.engine.counts import reduce_column
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.engine.forms.spline import SplineCandidate
 from tui.intake.dataset import file_sha256, open_dataset
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
@@ -34,13 +34,14 @@ def _sample_log() -> RecodingLog:
     counts = reduce_column(data.values("creatinine_umol_l"), data.outcome.y)
     spline = SplineCandidate(4).learn(counts).recoding
     stamp = "2026-01-10T08:00:00+00:00"
+    quadratic, linear = make_recoding("quadratic"), make_recoding("linear")
     decisions = [
-        Decision.make("bmi", Recoding("quadratic", {}), rng_of("bmi"), "U-shape, lowest near 27",
+        Decision.make("bmi", quadratic, rng_of("bmi"), "U-shape, lowest near 27",
                       {"score": 79.6, "groups": 4, "knots": 4}),
-        Decision.make("hba1c_pct", Recoding("indicator", {"cut": 6.5}), rng_of("hba1c_pct"),
+        Decision.make("hba1c_pct", make_recoding("indicator", {"cut": 6.5}), rng_of("hba1c_pct"),
                       "diagnostic threshold", {"groups": 10}),
         Decision.make("creatinine_umol_l", spline, rng_of("creatinine_umol_l"), "", {"knots": 4}),
-        Decision.make("age_years", Recoding("linear", {}), rng_of("age_years"), "looks linear"),
+        Decision.make("age_years", linear, rng_of("age_years"), "looks linear"),
     ]  # fmt: skip
     decisions = [Decision(**{**d.__dict__, "decided_at": stamp}) for d in decisions]
     return RecodingLog(
@@ -94,7 +95,7 @@ def test_min_cell_hides_a_group_of_seven(tmp_path):
     data = open_dataset(path, "y")
     log = RecodingLog(
         "y", 1, SourceInfo(path.name, 400, file_sha256(path)),
-        (Decision.make("x", Recoding("linear", {}), (1.0, 4.0), "", {"groups": 4}),),
+        (Decision.make("x", make_recoding("linear", {}), (1.0, 4.0), "", {"groups": 4}),),
     )  # fmt: skip
     report = build_report(log, data, min_cell=10)
     top = report.decisions[0].groups[-1]
@@ -125,7 +126,9 @@ def test_cli_report_data_without_a_logged_column(tmp_path):
     fresh = SAMPLE / "surgical_cohort_fresh.csv"
     target = tmp_path / "r.html"
     log = _sample_log()
-    renamed = log.with_decision(Decision.make("albumin_g_l", Recoding("linear", {}), (18.0, 55.0)))
+    renamed = log.with_decision(
+        Decision.make("albumin_g_l", make_recoding("linear", {}), (18.0, 55.0))
+    )
     recodings.save(renamed, log_path)
     done = run_cli("report", str(log_path), "--data", str(fresh), "--output", str(target))
     assert done.returncode == 2
@@ -154,12 +157,12 @@ def test_adjusted_weighted_decision_is_recomputed_the_same_way(tmp_path):
     path = tmp_path / "doses.csv"
     pd.DataFrame({"age": age, "dose": dose, "w": w, "y": y}).to_csv(path, index=False)
     data = open_dataset(path, "y")
-    age_form = Recoding("quadratic", {})
+    age_form = make_recoding("quadratic", {})
     log = RecodingLog(
         "y", 1, SourceInfo(path.name, n, file_sha256(path)),
         (
             Decision.make("age", age_form, (20.0, 80.0)),
-            Decision.make("dose", Recoding("log", {"shift": 0.0}), (0.0, 1.0), "",
+            Decision.make("dose", make_recoding("log", {"shift": 0.0}), (0.0, 1.0), "",
                           {"adjusted_for": ["age"], "weight": "w"}),
         ),
     )  # fmt: skip

@@ -5,7 +5,7 @@ import pandas as pd
 import pytest
 
 from tui.engine.covariates import CovariateError, build_covariates
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.intake.errors import InputProblem
 from tui.intake.weights import check_weights
 
@@ -51,7 +51,7 @@ def test_covariates_linear_recoded_and_text():
         ["age", "bmi", "ward"],
         {"age": age, "bmi": bmi},
         {"ward": ward},
-        {"bmi": Recoding("quadratic", {})},
+        {"bmi": make_recoding("quadratic", {})},
     )
     assert design.labels == ("age", "bmi__lin", "bmi__sq", "ward=b", "ward=c")
     np.testing.assert_array_equal(design.complete, [True, True, False, False])

@@ -9,16 +9,13 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
-from tui.engine.forms.base import Candidate, Recoding, RecodingError, fit_on_counts
+from tui.engine.forms.base import Candidate, Kind, Recoding, RecodingError, fit_on_counts
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.shift import learn_shift
 
 EVENTS_PER_PARAMETER = 10
 """Rule of thumb: at least 10 events per estimated parameter (Peduzzi et al. 1996)."""
 
-NOTE_CUT = "data-driven cut point: p-value optimistic"
-NOTE_POWER = "powers chosen from the data: p-value optimistic"
-NOTE_DICHOTOMY = "dichotomising discards information"
 NOTE_FEW_EVENTS = "few events per parameter"
 
 
@@ -26,10 +23,13 @@ NOTE_FEW_EVENTS = "few events per parameter"
 class FormFit:
     """One row of the comparison table."""
 
+    key: str
+    """The candidate's key: the kind key, ``hinge@168.0`` for a number typed by hand,
+    ``recorded`` for a fixed recoding. Tables are looked up by it."""
     label: str
-    """Candidate label with options, e.g. ``spline, 4 knots``."""
-    kind: str
-    """Kind key of the recoding."""
+    """Candidate label with options, e.g. ``spline, 4 knots`` (for display only)."""
+    form: Kind
+    """The kind of the candidate (and of its recoding)."""
     recoding: Recoding | None
     """What was learned; None when learning failed."""
     df: int
@@ -58,6 +58,11 @@ class FormFit:
     """Adjusted checks: the covariates' contribution to the log-odds at their means."""
     covariate_df: int = 0
     """Adjusted checks: covariate columns between the intercept and the form's columns."""
+
+    @property
+    def kind(self) -> str:
+        """Kind key of the recoding."""
+        return self.form.key
 
     @property
     def form_coef(self) -> np.ndarray:
@@ -107,9 +112,9 @@ class ComparisonTable:
         usable = [r for r in self.rows if r.status == "ok"]
         return min(usable, key=lambda r: r.aic) if usable else None
 
-    def row(self, label: str) -> FormFit | None:
-        """The row with this label."""
-        return next((r for r in self.rows if r.label == label), None)
+    def row(self, key: str) -> FormFit | None:
+        """The row with this key (``spline``, ``hinge@168.0``; see ``FormFit.key``)."""
+        return next((r for r in self.rows if r.key == key), None)
 
 
 def fit_candidate(
@@ -120,18 +125,11 @@ def fit_candidate(
         learned = candidate.learn(counts)
         fit = fit_on_counts(learned.recoding, counts)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
-        return FormFit(candidate.label, candidate.kind, None, 0, "failed", notes=(str(problem),))
+        return _failed(candidate, str(problem))
     if fit.rank_deficient:
-        note = "design columns collinear: too few distinct values for this form"
-        return FormFit(candidate.label, candidate.kind, None, 0, "failed", notes=(note,))
+        return _failed(candidate, "design columns collinear: too few distinct values for this form")
     status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
-    notes: list[str] = []
-    if learned.searched and candidate.kind in ("hinge", "indicator"):
-        notes.append(NOTE_CUT)
-    elif learned.searched:
-        notes.append(NOTE_POWER)
-    if candidate.kind in ("indicator", "bands"):
-        notes.append(NOTE_DICHOTOMY)
+    notes = learned.notes
     minority = min(counts.total_events, counts.rows - counts.total_events)
     if minority < EVENTS_PER_PARAMETER * learned.df:
         notes.append(NOTE_FEW_EVENTS)
@@ -142,14 +140,15 @@ def fit_candidate(
     delta = float("nan")
     if linear is not None and linear.fit is not None:
         delta = aic - linear.aic
-        if candidate.nests_linear and learned.df > linear.df:
+        if learned.nests_linear and learned.df > linear.df:
             lr_df = learned.df - linear.df
             lr_chi2, lr_p = lr_test(linear.fit, fit, lr_df)
     elif candidate.kind == "linear":
         delta = 0.0
     return FormFit(
+        key=candidate.key,
         label=candidate.label,
-        kind=candidate.kind,
+        form=candidate.form,
         recoding=learned.recoding,
         df=learned.df,
         status=status,
@@ -164,6 +163,12 @@ def fit_candidate(
         fit=fit,
         covariate_level=_covariate_level(fit, counts),
         covariate_df=counts.covariate_df,
+    )
+
+
+def _failed(candidate: Candidate, problem: str) -> FormFit:
+    return FormFit(
+        candidate.key, candidate.label, candidate.form, None, 0, "failed", notes=(problem,)
     )
 
 

@@ -6,7 +6,10 @@ from dataclasses import dataclass
 
 from tui.engine.compare import FormFit, fit_candidate
 from tui.engine.counts import ReducedCounts
-from tui.engine.forms.base import Candidate, Learned, Recoding
+from tui.engine.forms.base import Candidate, Kind, Learned, Recoding
+
+RECORDED_KEY = "recorded"
+"""Table key of a fixed recoding's row, apart from every candidate's key."""
 
 
 @dataclass
@@ -16,24 +19,25 @@ class FixedCandidate(Candidate):
     recoding: Recoding
     title: str | None = None
 
-    kind = "fixed"  # replaced per instance below
+    @property
+    def form(self) -> Kind:  # type: ignore[override]
+        return self.recoding.form
 
-    def __post_init__(self) -> None:
-        self.kind = self.recoding.kind  # type: ignore[misc]
-        suffixes = self.recoding.suffixes()
-        # Linear is nested when x itself is the first output and something is added to it.
-        self.nests_linear = suffixes[0] == "lin" and len(suffixes) > 1  # type: ignore[misc]
+    @property
+    def key(self) -> str:
+        return RECORDED_KEY
 
     @property
     def label(self) -> str:
         return self.title or self.recoding.describe()
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(self.recoding, df=len(self.recoding.suffixes()))
+        return Learned(self.recoding)
 
 
 def fit_recoding(
     recoding: Recoding, counts: ReducedCounts, linear: FormFit, title: str | None = None
 ) -> FormFit:
-    """Fit a fixed recoding to counts and compare it with the linear row."""
+    """Fit a fixed recoding to counts and compare it with the linear row; whether a
+    likelihood-ratio test applies is the kind's to say (``Kind.nests_linear``)."""
     return fit_candidate(FixedCandidate(recoding, title), counts, linear)

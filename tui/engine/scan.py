@@ -23,7 +23,7 @@ from tui.engine.counts import (
     rows_with_covariates,
 )
 from tui.engine.forms.registry import triage_candidates
-from tui.engine.forms.spline import DEFAULT_KNOTS
+from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
 from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
 
@@ -111,9 +111,9 @@ class ColumnScan:
         }
 
 
-def _shape_hint(table: ComparisonTable, counts: ReducedCounts, knots: int) -> str:
+def _shape_hint(table: ComparisonTable, counts: ReducedCounts) -> str:
     """The spline's shape; a step that a smooth spline blurs shows as a winning cut point."""
-    spline = table.row(f"spline, {knots} knots")
+    spline = table.row(SPLINE.key)
     if spline is None or spline.fit is None:
         return LINEAR
     lo, hi = counts.quantile([0.025, 0.975])
@@ -122,14 +122,7 @@ def _shape_hint(table: ComparisonTable, counts: ReducedCounts, knots: int) -> st
     best = table.best()
     if shape == U_SHAPE or best is None or best.fit is None:
         return shape
-    if best.kind == "indicator":
-        return THRESHOLD
-    if best.kind == "hinge":
-        slope_below = best.form_coef[0]
-        slope_above = slope_below + best.form_coef[1]
-        if min(abs(slope_below), abs(slope_above)) < 0.15 * max(abs(slope_below), abs(slope_above)):
-            return THRESHOLD
-    return shape
+    return THRESHOLD if best.form.shows_threshold(best.form_coef) else shape
 
 
 def scan_counts(
@@ -176,7 +169,7 @@ def scan_counts(
     candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
     table = compare_forms(counts, candidates)
     linear = table.linear
-    spline = table.row(f"spline, {settings.knots} knots")
+    spline = table.row(SPLINE.key)
     if any(r.status == "separation" for r in (linear, spline) if r is not None):
         flags.append(F.SEPARATION)
     elif any(r.status == "not-converged" for r in (linear, spline) if r is not None):
@@ -199,7 +192,7 @@ def scan_counts(
             score=spline.lr_chi2,
             df=spline.lr_df,
             p_value=spline.lr_p,
-            shape=_shape_hint(table, counts, settings.knots),
+            shape=_shape_hint(table, counts),
         ),
         table,
     )

@@ -17,7 +17,8 @@ from typing import Any
 import numpy as np
 
 from tui import __version__
-from tui.engine.forms.base import Recoding, RecodingError
+from tui.engine.forms.base import RecodingError
+from tui.engine.forms.registry import make_recoding
 from tui.recodings.errors import EntryProblem
 from tui.recodings.model import (
     FORMAT,
@@ -29,7 +30,7 @@ from tui.recodings.model import (
 )
 
 # RecodingError messages start with the field they blame ("params.knots must be ...").
-_BLAMED_FIELD = re.compile(r"^(params(?:\.\w+)?(?:\[\d+\])?|clip)\s+(.*)$", re.DOTALL)
+_BLAMED_FIELD = re.compile(r"^(params(?:\.\w+)?(?:\[\d+\])?|clip|kind)\s+(.*)$", re.DOTALL)
 
 
 def to_document(log: RecodingLog) -> dict[str, Any]:
@@ -126,12 +127,12 @@ def from_document(document: Mapping[str, Any]) -> RecodingLog:
 def _decision(item: Mapping[str, Any], index: int) -> Decision:
     where = f"recodings[{index}]"
     clip = item.get("clip")
-    recoding = Recoding(
-        kind=item["kind"],
-        params=dict(item["params"]),
-        clip=None if clip is None else (float(clip[0]), float(clip[1])),
-    )
     try:
+        recoding = make_recoding(
+            item["kind"],
+            dict(item["params"]),
+            None if clip is None else (float(clip[0]), float(clip[1])),
+        )
         recoding.validate()
     except RecodingError as problem:
         found = _BLAMED_FIELD.match(str(problem))

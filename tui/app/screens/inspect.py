@@ -28,13 +28,12 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.forms.spline import KNOT_PERCENTILES
+from tui.engine.forms.spline import KNOT_PERCENTILES, SPLINE
 from tui.engine.groups import GROUP_CHOICES
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
-CUT_KINDS = ("indicator", "bands")
 KNOT_CHOICES = tuple(sorted(KNOT_PERCENTILES))
 GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
@@ -182,8 +181,8 @@ class InspectScreen(Screen[str]):
         """The candidate under the cursor."""
         if self.fits is None or self.fits.table is None:
             return None
-        label = self.query_one(FormsTable).highlighted_key()
-        return self.fits.table.row(label) if label is not None else None
+        key = self.query_one(FormsTable).highlighted_key()
+        return self.fits.table.row(key) if key is not None else None
 
     def _refresh_heading(self) -> None:
         s = self.session
@@ -266,7 +265,7 @@ class InspectScreen(Screen[str]):
         if row.kind == "linear" and bt is not None:
             words.append(f"Box–Tidwell power {bt.power:.2f}, p {p_text(bt.p_value)}")
         notes.update(f"form notes ({form_text(row)}): " + ("; ".join(words) or "none"))
-        if row.kind in CUT_KINDS:
+        if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")
             caution.display = True
 
@@ -360,16 +359,13 @@ class InspectScreen(Screen[str]):
         """Next number of quantile groups (4, 5, 10, 20)."""
         self.groups = next_choice(GROUP_CHOICES, self.groups)
         self._refresh_heading()
-        label = self.query_one(FormsTable).highlighted_key() or self._want_label
-        if label is not None and label.startswith("bands,"):
-            label = f"bands, {self.groups} groups"  # the bands follow the groups
-        self._load(label)
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_label)
 
     def action_cycle_knots(self) -> None:
         """Next number of spline knots (3 to 7)."""
         self.knots = next_choice(KNOT_CHOICES, self.knots)
         self._refresh_heading()
-        self._load(f"spline, {self.knots} knots")
+        self._load(SPLINE.key)
 
     def _range(self) -> tuple[float, float] | None:
         profile = self.session.profile_of(self.column)
@@ -408,20 +404,22 @@ class InspectScreen(Screen[str]):
     def _cut_entered(self, value: float | None) -> None:
         if value is None:
             return
-        label = IndicatorCandidate(cut=value).label
-        if label not in self.request().hand_labels():  # 12.5 and 12.5000001 read the same
+        cut = IndicatorCandidate(cut=value)
+        known = {c.label: c.key for c in self.request().by_hand()}
+        if cut.label not in known:  # 12.5 and 12.5000001 read the same
             cuts = self.session.hand_cuts.get(self.column, ())
             self.session.hand_cuts[self.column] = cuts + (value,)
-        self._load(label)
+        self._load(known.get(cut.label, cut.key))
 
     def _hinge_entered(self, value: float | None) -> None:
         if value is None:
             return
-        label = HingeCandidate(knot=value).label
-        if label not in self.request().hand_labels():
+        hinge = HingeCandidate(knot=value)
+        known = {c.label: c.key for c in self.request().by_hand()}
+        if hinge.label not in known:
             knots = self.session.hand_hinges.get(self.column, ())
             self.session.hand_hinges[self.column] = knots + (value,)
-        self._load(label)
+        self._load(known.get(hinge.label, hinge.key))
 
     # --- moving ---------------------------------------------------------------------------
 

@@ -17,9 +17,9 @@ BEST_WORD = "best"
 
 
 def lowest_aic(rows: Sequence[FormFit]) -> str | None:
-    """The label of the first row with the lowest AIC (None when no AIC is a number)."""
+    """The key of the first row with the lowest AIC (None when no AIC is a number)."""
     scored = [r for r in rows if is_number(r.aic)]
-    return min(scored, key=lambda r: r.aic).label if scored else None
+    return min(scored, key=lambda r: r.aic).key if scored else None
 
 
 def row_notes(row: FormFit, by_hand: bool) -> list[str]:
@@ -38,9 +38,9 @@ def form_text(row: FormFit) -> str:
 
 
 def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool, best: bool = False) -> Row:
-    """A table row for one candidate, keyed by its label; ``best``: lowest AIC."""
+    """A table row for one candidate, keyed by its form key; ``best``: lowest AIC."""
     mark = ACCEPTED_MARK if accepted is not None and row.recoding == accepted else " "
-    return row.label, {
+    return row.key, {
         "form": f"{mark} {form_text(row)}",
         "df": str(row.df) if row.recoding is not None else "-",
         "deviance": number_text(row.deviance),
@@ -53,7 +53,7 @@ def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool, best: bool 
 
 
 class FormsTable(KeyTable):
-    """One row per candidate form; the row key is the candidate's label."""
+    """One row per candidate form; the row key is the candidate's key (``FormFit.key``)."""
 
     SPECS = (
         ColumnSpec("form", "form", 20, 30, False, 0),
@@ -71,4 +71,4 @@ class FormsTable(KeyTable):
         hand = fits.request.hand_labels()
         rows = fits.table.rows if fits.table is not None else ()
         best = lowest_aic(rows)
-        self.show_rows([form_row(r, accepted, r.label in hand, r.label == best) for r in rows])
+        self.show_rows([form_row(r, accepted, r.label in hand, r.key == best) for r in rows])

@@ -1,7 +1,7 @@
 """Candidate forms: each learns its numbers once and applies them from those numbers alone."""
 
 from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError
-from tui.engine.forms.registry import KINDS, default_candidates
+from tui.engine.forms.registry import KINDS, default_candidates, make_recoding
 
 __all__ = [
     "KINDS",
@@ -11,4 +11,5 @@ __all__ = [
     "Recoding",
     "RecodingError",
     "default_candidates",
+    "make_recoding",
 ]

@@ -12,6 +12,7 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import (
+    NOTE_DICHOTOMY,
     Candidate,
     Kind,
     Learned,
@@ -19,6 +20,7 @@ from tui.engine.forms.base import (
     RecodingError,
     check_sorted_numbers,
     sql_number,
+    words_list,
 )
 from tui.engine.groups import group_edges, group_index
 
@@ -36,7 +38,13 @@ def band_edges(counts: ReducedCounts, groups: int) -> list[float]:
 
 
 class BandsKind(Kind):
-    name = "bands"
+    key = label = "bands"
+    cut_based = True  # several groups, not a dichotomy
+
+    def notes(self, searched: bool) -> list[str]:
+        # Categories lose the information within each band, as a dichotomy does; the
+        # note's wording is shared with the indicator's.
+        return [NOTE_DICHOTOMY]
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_sorted_numbers(params, "edges", 1)
@@ -52,6 +60,12 @@ class BandsKind(Kind):
     def describe(self, params: Mapping[str, Any]) -> str:
         return f"bands, {len(params['edges']) + 1} groups"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        edges = params["edges"]
+        return (
+            f"{len(edges) + 1} bands cut at {words_list(edges)}; the lowest band is the reference"
+        )
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         edges = [sql_number(float(e)) for e in params["edges"]]
         out = []
@@ -61,18 +75,21 @@ class BandsKind(Kind):
         return out
 
 
+BANDS = BandsKind()
+
+
 class BandsCandidate(Candidate):
-    kind = "bands"
+    form = BANDS
 
     def __init__(self, groups: int = 4) -> None:
         self.groups = groups
 
     @property
     def label(self) -> str:
-        return f"bands, {self.groups} groups"
+        return f"{BANDS.label}, {self.groups} groups"
 
     def learn(self, counts: ReducedCounts) -> Learned:
         edges = band_edges(counts, self.groups)
         if not edges:
             raise RecodingError("too few distinct values for quantile bands")
-        return Learned(Recoding("bands", {"edges": edges}), df=len(edges))
+        return Learned(Recoding(BANDS, {"edges": edges}))

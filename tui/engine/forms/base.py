@@ -1,10 +1,12 @@
 """The shape every candidate form follows: learn numbers once, then apply them anywhere.
 
-A *kind* (``Kind`` subclass) knows how to apply plain-number parameters to x, name its
-output columns, describe itself and render SQL. A *candidate* (``Candidate``) learns those
-parameters from reduced training counts, searching when the form has a free cut point or
-power. What the candidate learns is a ``Recoding``: the kind, its parameters and an
-optional clip range. Applying a recoding needs nothing but the recoding.
+A *kind* (``Kind`` subclass) holds every fact about one form: its log key, how it applies
+plain-number parameters to x, its output columns, its words and SQL, whether it nests
+linear, what a search of its numbers costs and which notes it carries. A *candidate*
+(``Candidate``) learns those parameters from reduced training counts, searching when the
+form has a free cut point or power. What the candidate learns is a ``Recoding``: the kind
+object itself, its parameters and an optional clip range. Applying a recoding needs
+nothing but the recoding, so this module imports no form and no registry.
 """
 
 from __future__ import annotations
@@ -34,11 +36,61 @@ def sql_number(value: float) -> str:
     return f"({text})" if text.startswith("-") else text
 
 
-class Kind(ABC):
-    """How one kind of recoding applies its learned numbers."""
+NOTE_CUT = "data-driven cut point: p-value optimistic"
+NOTE_POWER = "powers chosen from the data: p-value optimistic"
+NOTE_DICHOTOMY = "dichotomising discards information"
 
-    name: ClassVar[str]
-    """The kind's key in the recoding log."""
+
+class Kind(ABC):
+    """One kind of recoding: how it applies its learned numbers and what it is.
+
+    Kinds are compared by key, so a kind read back from a log or from another process
+    equals the one a candidate learned.
+    """
+
+    key: ClassVar[str]
+    """Stable key in the recoding log and in comparison tables (``spline``)."""
+    label: ClassVar[str]
+    """Display name without numbers (``FP2``); ``describe`` adds the numbers."""
+    cut_based: ClassVar[bool] = False
+    """The form splits x at cut points into groups (indicator, bands)."""
+    dichotomises: ClassVar[bool] = False
+    """One cut point turns x into two groups (indicator; bands are several groups)."""
+    searched_df: ClassVar[int] = 0
+    """Degrees of freedom a data-driven search of the numbers adds (cut point, powers)."""
+    search_note: ClassVar[str | None] = None
+    """Caution on a row whose numbers were searched."""
+    search_includes_linear: ClassVar[bool] = False
+    """Linear is one member of the search, so a searched fit nests linear whatever it picks."""
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Kind) and other.key == self.key
+
+    def __hash__(self) -> int:
+        return hash(self.key)
+
+    def __repr__(self) -> str:
+        return f"<kind {self.key}>"
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        """x itself lies in the span of the outputs (with the intercept), so a
+        likelihood-ratio test against linear applies."""
+        return False
+
+    def df(self, params: Mapping[str, Any], searched: bool = False) -> int:
+        """Estimated numbers beyond the intercept: one per output, plus the search's."""
+        return len(self.suffixes(params)) + (self.searched_df if searched else 0)
+
+    def notes(self, searched: bool) -> list[str]:
+        """Cautions on a fitted row of this kind."""
+        notes = [self.search_note] if searched and self.search_note else []
+        if self.dichotomises:
+            notes.append(NOTE_DICHOTOMY)
+        return notes
+
+    def shows_threshold(self, form_coef: np.ndarray) -> bool:
+        """The fitted coefficients of this form read as a step (a threshold shape)."""
+        return False
 
     @abstractmethod
     def validate(self, params: Mapping[str, Any]) -> None:
@@ -57,8 +109,28 @@ class Kind(ABC):
         """A short readable label, e.g. ``spline, 4 knots``."""
 
     @abstractmethod
+    def words(self, params: Mapping[str, Any]) -> str:
+        """One sentence saying what the form computes from x, for model documentation."""
+
+    @abstractmethod
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         """One SQL expression per output; ``x`` is an expression that is NULL when missing."""
+
+
+def words_number(value: float) -> str:
+    """A number as written in words: six significant digits."""
+    return f"{float(value):.6g}"
+
+
+def words_list(values: list[float]) -> str:
+    """Numbers separated by commas."""
+    return ", ".join(words_number(v) for v in values)
+
+
+def words_shift(params: Mapping[str, Any]) -> str:
+    """The shift in words ('' when there is none)."""
+    s = float(params.get("shift", 0.0))
+    return "" if s == 0 else f" after adding {words_number(s)} to every value"
 
 
 def check_number(params: Mapping[str, Any], key: str) -> float:
@@ -100,23 +172,21 @@ def check_shift(params: Mapping[str, Any]) -> float:
 class Recoding:
     """A learned recoding: everything needed to apply it, as plain numbers."""
 
-    kind: str
-    """Kind key (see ``KINDS``)."""
+    form: Kind
+    """The kind that applies these numbers (``make_recoding`` builds one from a key)."""
     params: Mapping[str, Any] = field(default_factory=dict)
     """Learned numbers (knots, shift, cut, edges, powers)."""
     clip: tuple[float, float] | None = None
     """When set, x is first limited to [lo, hi]."""
 
     @property
-    def spec(self) -> Kind:
-        """The kind that applies these numbers."""
-        from tui.engine.forms.registry import KINDS
-
-        return KINDS[self.kind]
+    def kind(self) -> str:
+        """Kind key, as written in the log (see ``KINDS``)."""
+        return self.form.key
 
     def validate(self) -> None:
         """Raise RecodingError when the numbers are unusable."""
-        self.spec.validate(self.params)
+        self.form.validate(self.params)
         if self.clip is not None:
             lo, hi = self.clip
             if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi:
@@ -132,12 +202,12 @@ class Recoding:
             xv = np.clip(xv, self.clip[0], self.clip[1])
         if xv.size:
             with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-                out[present] = self.spec.apply(self.params, xv)
+                out[present] = self.form.apply(self.params, xv)
         return out
 
     def suffixes(self) -> list[str]:
         """Suffixes of the output columns."""
-        return self.spec.suffixes(self.params)
+        return self.form.suffixes(self.params)
 
     def outputs(self, column: str) -> list[str]:
         """Names of the output columns for source ``column``: ``<column>__<suffix>``."""
@@ -145,9 +215,17 @@ class Recoding:
 
     def describe(self) -> str:
         """Readable label."""
-        text = self.spec.describe(self.params)
+        text = self.form.describe(self.params)
         if self.clip is not None:
             text += f", clipped to [{self.clip[0]:.6g}, {self.clip[1]:.6g}]"
+        return text
+
+    def words(self) -> str:
+        """One sentence saying what the recoding computes from x, clip included."""
+        text = self.form.words(self.params)
+        if self.clip is not None:
+            lo, hi = (words_number(v) for v in self.clip)
+            text += f"; x first limited to [{lo}, {hi}]"
         return text
 
     def sql(self, x: str, dialect: str = "duckdb") -> list[str]:
@@ -159,28 +237,61 @@ class Recoding:
         # GREATEST and LEAST skip NULLs in most databases, so guard every output.
         return [
             f"CASE WHEN {raw} IS NULL THEN NULL ELSE {expr} END"
-            for expr in self.spec.sql(self.params, x, dialect)
+            for expr in self.form.sql(self.params, x, dialect)
         ]
 
 
 @dataclass(frozen=True)
 class Learned:
-    """What a candidate learned: the recoding and the df it spent learning it."""
+    """What a candidate learned: the recoding, and whether its numbers were searched."""
 
     recoding: Recoding
     """The learned recoding."""
-    df: int
-    """Estimated numbers beyond the intercept, searched cut points and powers included."""
     searched: bool = False
     """A cut point or power was chosen from the data (p-values optimistic)."""
+
+    @property
+    def df(self) -> int:
+        """Estimated numbers beyond the intercept, searched cut points and powers included."""
+        return self.recoding.form.df(self.recoding.params, self.searched)
+
+    @property
+    def nests_linear(self) -> bool:
+        """Linear is a special case of what was learned (or of the search that chose it),
+        so a likelihood-ratio test against linear applies."""
+        form = self.recoding.form
+        return form.nests_linear(self.recoding.params) or (
+            self.searched and form.search_includes_linear
+        )
+
+    @property
+    def notes(self) -> list[str]:
+        """The kind's cautions on this row."""
+        return self.recoding.form.notes(self.searched)
 
 
 class Candidate(ABC):
     """A candidate form with its options; learns a recoding from training counts."""
 
-    kind: ClassVar[str]
-    nests_linear: ClassVar[bool] = False
-    """Linear is a special case of this form, so a likelihood-ratio test applies."""
+    form: Kind
+    """The kind this candidate learns (a class attribute on the fixed-kind candidates)."""
+
+    @property
+    def kind(self) -> str:
+        """Kind key of what this candidate learns."""
+        return self.form.key
+
+    @property
+    def key(self) -> str:
+        """Key of this candidate's row in a comparison table: the kind key, unless the
+        candidate carries a number of its own (``hinge@168.0``)."""
+        return self.form.key
+
+    @property
+    def searches_many_fits(self) -> bool:
+        """Learning fits the form many times over (tens of fits), so a row-level scan
+        leaves it out."""
+        return False
 
     @property
     @abstractmethod

@@ -15,6 +15,7 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import (
+    NOTE_POWER,
     Candidate,
     Kind,
     Learned,
@@ -22,6 +23,8 @@ from tui.engine.forms.base import (
     RecodingError,
     check_shift,
     search,
+    words_number,
+    words_shift,
 )
 from tui.engine.forms.log import safe_log, shifted_sql
 from tui.engine.forms.shift import learn_shift
@@ -58,7 +61,13 @@ def _check_power(value: Any, where: str) -> float:
 
 
 class Fp1Kind(Kind):
-    name = "fp1"
+    key, label = "fp1", "FP1"
+    searched_df = 1  # the power
+    search_note = NOTE_POWER
+    search_includes_linear = True  # power 1 is in S
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        return float(params["power"]) == 1  # (x + s)^1 is x up to the intercept
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_shift(params)
@@ -78,13 +87,25 @@ class Fp1Kind(Kind):
         s = float(params["shift"])
         return text if s == 0 else f"{text}, shift {s:.6g}"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        power = float(params["power"])
+        what = "ln x" if power == 0 else f"x to the power {words_number(power)}"
+        return f"fractional polynomial of degree 1: {what}{words_shift(params)}"
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         z = shifted_sql(x, float(params["shift"]))
         return [f"CASE WHEN {z} > 0 THEN {_power_sql(z, float(params['power']))} END"]
 
 
 class Fp2Kind(Kind):
-    name = "fp2"
+    key, label = "fp2", "FP2"
+    searched_df = 2  # the two powers
+    search_note = NOTE_POWER
+    search_includes_linear = True  # powers (1, p) are in the search
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        # (p, p) gives z^p and z^p ln z, so x is an output exactly when 1 is a power.
+        return 1 in (float(p) for p in params["powers"])
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_shift(params)
@@ -114,6 +135,15 @@ class Fp2Kind(Kind):
         s = float(params["shift"])
         return text if s == 0 else f"{text}, shift {s:.6g}"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        p1, p2 = (float(v) for v in params["powers"])
+        if p1 == p2:
+            base = "ln x" if p1 == 0 else f"x^{words_number(p1)}"
+            what = f"{base} and {base}·ln x (repeated power)"
+        else:
+            what = " and ".join("ln x" if q == 0 else f"x^{words_number(q)}" for q in (p1, p2))
+        return f"fractional polynomial of degree 2: {what}{words_shift(params)}"
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         z = shifted_sql(x, float(params["shift"]))
         p1, p2 = (float(p) for p in params["powers"])
@@ -122,32 +152,38 @@ class Fp2Kind(Kind):
         return [f"CASE WHEN {z} > 0 THEN {e} END" for e in (first, second)]
 
 
+FP1 = Fp1Kind()
+FP2 = Fp2Kind()
+
+
 class Fp1Candidate(Candidate):
-    kind = "fp1"
-    nests_linear = True
+    form = FP1
 
     @property
     def label(self) -> str:
-        return "FP1"
+        return FP1.label
 
     def learn(self, counts: ReducedCounts) -> Learned:
         shift = learn_shift(counts)
-        options = [Recoding("fp1", {"power": p, "shift": shift}) for p in POWERS]
-        return Learned(search(options, counts), df=2, searched=True)
+        options = [Recoding(FP1, {"power": p, "shift": shift}) for p in POWERS]
+        return Learned(search(options, counts), searched=True)
 
 
 class Fp2Candidate(Candidate):
-    kind = "fp2"
-    nests_linear = True
+    form = FP2
+
+    @property
+    def searches_many_fits(self) -> bool:
+        return True  # 36 pairs of powers
 
     @property
     def label(self) -> str:
-        return "FP2"
+        return FP2.label
 
     def learn(self, counts: ReducedCounts) -> Learned:
         shift = learn_shift(counts)
         options = [
-            Recoding("fp2", {"powers": [p1, p2], "shift": shift})
+            Recoding(FP2, {"powers": [p1, p2], "shift": shift})
             for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
         ]
-        return Learned(search(options, counts), df=4, searched=True)
+        return Learned(search(options, counts), searched=True)

@@ -9,6 +9,7 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import (
+    NOTE_CUT,
     Candidate,
     Kind,
     Learned,
@@ -17,12 +18,23 @@ from tui.engine.forms.base import (
     check_number,
     search,
     sql_number,
+    words_number,
 )
 from tui.engine.forms.cutpoints import cut_candidates
 
+FLAT_SHARE = 0.15
+"""A fitted hinge reads as a threshold when one side's slope is under this share of the
+other's."""
+
 
 class HingeKind(Kind):
-    name = "hinge"
+    key = label = "hinge"
+    searched_df = 1  # the knot
+    search_note = NOTE_CUT
+    search_includes_linear = True  # x is an output whatever the knot
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        return True  # x is the first output
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_number(params, "knot")
@@ -36,27 +48,48 @@ class HingeKind(Kind):
     def describe(self, params: Mapping[str, Any]) -> str:
         return f"hinge at {float(params['knot']):.6g}"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        knot = words_number(float(params["knot"]))
+        return f"x and max(x − {knot}, 0): the slope changes at {knot}"
+
+    def shows_threshold(self, form_coef: np.ndarray) -> bool:
+        below = form_coef[0]
+        above = below + form_coef[1]
+        return bool(min(abs(below), abs(above)) < FLAT_SHARE * max(abs(below), abs(above)))
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         return [x, f"GREATEST({x} - {sql_number(float(params['knot']))}, 0.0)"]
+
+
+HINGE = HingeKind()
 
 
 class HingeCandidate(Candidate):
     """Knot searched over the central percentiles unless given by hand."""
 
-    kind = "hinge"
-    nests_linear = True
+    form = HINGE
 
     def __init__(self, knot: float | None = None) -> None:
         self.knot = knot
 
     @property
+    def key(self) -> str:
+        return HINGE.key if self.knot is None else f"{HINGE.key}@{float(self.knot)!r}"
+
+    @property
+    def searches_many_fits(self) -> bool:
+        return self.knot is None
+
+    @property
     def label(self) -> str:
-        return "hinge" if self.knot is None else f"hinge at {self.knot:.6g}"
+        return HINGE.label if self.knot is None else f"hinge at {self.knot:.6g}"
 
     def learn(self, counts: ReducedCounts) -> Learned:
         if self.knot is not None:
-            return Learned(Recoding("hinge", {"knot": float(self.knot)}), df=2)
-        options = [Recoding("hinge", {"knot": c}) for c in cut_candidates(counts)[:-1]]
+            return Learned(Recoding(HINGE, {"knot": float(self.knot)}))
+        # A knot at the largest x would add a column of zeros: strictly inside the range.
+        knots = cut_candidates(counts, upper_included=False)
+        options = [Recoding(HINGE, {"knot": c}) for c in knots]
         if not options:
             raise RecodingError("too few distinct values to place a hinge")
-        return Learned(search(options, counts), df=3, searched=True)
+        return Learned(search(options, counts), searched=True)

@@ -12,7 +12,10 @@ from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingEr
 
 
 class LinearKind(Kind):
-    name = "linear"
+    key = label = "linear"
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        return True
 
     def validate(self, params: Mapping[str, Any]) -> None:
         if params:
@@ -27,16 +30,22 @@ class LinearKind(Kind):
     def describe(self, params: Mapping[str, Any]) -> str:
         return "linear"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        return "kept as a linear term in x"
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         return [x]
 
 
+LINEAR = LinearKind()
+
+
 class LinearCandidate(Candidate):
-    kind = "linear"
+    form = LINEAR
 
     @property
     def label(self) -> str:
-        return "linear"
+        return LINEAR.label
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(Recoding("linear", {}), df=1)
+        return Learned(Recoding(LINEAR, {}))

@@ -15,6 +15,7 @@ from tui.engine.forms.base import (
     Recoding,
     check_shift,
     sql_number,
+    words_shift,
 )
 from tui.engine.forms.shift import learn_shift
 
@@ -33,7 +34,7 @@ def safe_log(z: np.ndarray) -> np.ndarray:
 
 
 class LogKind(Kind):
-    name = "log"
+    key = label = "log"
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_shift(params)
@@ -48,17 +49,23 @@ class LogKind(Kind):
         s = float(params["shift"])
         return "log" if s == 0 else f"log, shift {s:.6g}"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        return f"natural log of x{words_shift(params)}"
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         z = shifted_sql(x, float(params["shift"]))
         return [f"CASE WHEN {z} > 0 THEN LN({z}) END"]
 
 
+LOG = LogKind()
+
+
 class LogCandidate(Candidate):
-    kind = "log"
+    form = LOG
 
     @property
     def label(self) -> str:
-        return "log"
+        return LOG.label
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(Recoding("log", {"shift": learn_shift(counts)}), df=1)
+        return Learned(Recoding(LOG, {"shift": learn_shift(counts)}))

@@ -12,7 +12,10 @@ from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingEr
 
 
 class QuadraticKind(Kind):
-    name = "quadratic"
+    key = label = "quadratic"
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        return True
 
     def validate(self, params: Mapping[str, Any]) -> None:
         if params:
@@ -27,17 +30,22 @@ class QuadraticKind(Kind):
     def describe(self, params: Mapping[str, Any]) -> str:
         return "quadratic"
 
+    def words(self, params: Mapping[str, Any]) -> str:
+        return "x and x squared"
+
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         return [x, f"(({x}) * ({x}))"]
 
 
+QUADRATIC = QuadraticKind()
+
+
 class QuadraticCandidate(Candidate):
-    kind = "quadratic"
-    nests_linear = True
+    form = QUADRATIC
 
     @property
     def label(self) -> str:
-        return "quadratic"
+        return QUADRATIC.label
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(Recoding("quadratic", {}), df=2)
+        return Learned(Recoding(QUADRATIC, {}))

@@ -2,30 +2,31 @@
 
 from __future__ import annotations
 
-from tui.engine.forms.bands import BandsCandidate, BandsKind
-from tui.engine.forms.base import Candidate, Kind
-from tui.engine.forms.fracpoly import Fp1Candidate, Fp1Kind, Fp2Candidate, Fp2Kind
-from tui.engine.forms.hinge import HingeCandidate, HingeKind
-from tui.engine.forms.indicator import IndicatorCandidate, IndicatorKind
-from tui.engine.forms.linear import LinearCandidate, LinearKind
-from tui.engine.forms.log import LogCandidate, LogKind
-from tui.engine.forms.quadratic import QuadraticCandidate, QuadraticKind
-from tui.engine.forms.spline import DEFAULT_KNOTS, SplineCandidate, SplineKind
+from collections.abc import Mapping
+from typing import Any
+
+from tui.engine.forms.bands import BANDS, BandsCandidate
+from tui.engine.forms.base import Candidate, Kind, Recoding, RecodingError
+from tui.engine.forms.fracpoly import FP1, FP2, Fp1Candidate, Fp2Candidate
+from tui.engine.forms.hinge import HINGE, HingeCandidate
+from tui.engine.forms.indicator import INDICATOR, IndicatorCandidate
+from tui.engine.forms.linear import LINEAR, LinearCandidate
+from tui.engine.forms.log import LOG, LogCandidate
+from tui.engine.forms.quadratic import QUADRATIC, QuadraticCandidate
+from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE, SplineCandidate
 
 KINDS: dict[str, Kind] = {
-    k.name: k
-    for k in (
-        LinearKind(),
-        LogKind(),
-        Fp1Kind(),
-        Fp2Kind(),
-        QuadraticKind(),
-        SplineKind(),
-        HingeKind(),
-        IndicatorKind(),
-        BandsKind(),
-    )
+    k.key: k for k in (LINEAR, LOG, FP1, FP2, QUADRATIC, SPLINE, HINGE, INDICATOR, BANDS)
 }
+
+
+def make_recoding(
+    key: str, params: Mapping[str, Any] | None = None, clip: tuple[float, float] | None = None
+) -> Recoding:
+    """The recoding of the kind logged as ``key``; RecodingError for an unknown key."""
+    if key not in KINDS:
+        raise RecodingError(f"kind {key!r} is unknown; known kinds: {', '.join(KINDS)}")
+    return Recoding(KINDS[key], dict(params or {}), clip)
 
 
 def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Candidate]:
@@ -49,4 +50,4 @@ def triage_candidates(groups: int, knots: int, searched: bool = True) -> list[Ca
     every = default_candidates(groups, knots)
     if searched:
         return every
-    return [c for c in every if c.kind not in ("fp2", "hinge", "indicator")]
+    return [c for c in every if not c.searches_many_fits]

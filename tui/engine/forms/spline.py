@@ -21,6 +21,7 @@ from tui.engine.forms.base import (
     RecodingError,
     check_sorted_numbers,
     sql_number,
+    words_list,
 )
 
 KNOT_PERCENTILES: dict[int, tuple[float, ...]] = {
@@ -69,7 +70,10 @@ def learn_knots(counts: ReducedCounts, k: int) -> list[float]:
 
 
 class SplineKind(Kind):
-    name = "spline"
+    key = label = "spline"
+
+    def nests_linear(self, params: Mapping[str, Any]) -> bool:
+        return True  # x is the first output
 
     def validate(self, params: Mapping[str, Any]) -> None:
         knots = check_sorted_numbers(params, "knots", 3)
@@ -84,6 +88,10 @@ class SplineKind(Kind):
 
     def describe(self, params: Mapping[str, Any]) -> str:
         return f"spline, {len(params['knots'])} knots"
+
+    def words(self, params: Mapping[str, Any]) -> str:
+        knots = params["knots"]
+        return f"restricted cubic spline with {len(knots)} knots at {words_list(knots)}"
 
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
         t = [float(v) for v in params["knots"]]
@@ -101,17 +109,19 @@ class SplineKind(Kind):
         return out
 
 
+SPLINE = SplineKind()
+
+
 class SplineCandidate(Candidate):
-    kind = "spline"
-    nests_linear = True
+    form = SPLINE
 
     def __init__(self, knots: int = DEFAULT_KNOTS) -> None:
         self.knots = knots
 
     @property
     def label(self) -> str:
-        return f"spline, {self.knots} knots"
+        return f"{SPLINE.label}, {self.knots} knots"
 
     def learn(self, counts: ReducedCounts) -> Learned:
         knots = learn_knots(counts, self.knots)
-        return Learned(Recoding("spline", {"knots": knots}), df=len(knots) - 1)
+        return Learned(Recoding(SPLINE, {"knots": knots}))

@@ -10,7 +10,7 @@ import pytest
 from recodings_cases import every_kind_log
 
 from tui.cli.main import main
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.recodings import RecodingLog, SetAside, SourceInfo, save
 from tui.recodings.codec import to_document
 from tui.recodings.diff import RECORD_KEYS, Change, diff_documents, diff_logs
@@ -58,7 +58,7 @@ def test_equal_logs_exit_0(tmp_path: Path, capsys) -> None:
 
 def test_kind_change() -> None:
     new = _changed(
-        BASE, "age_years", recoding=Recoding("quadratic", {}), outputs=("age__lin", "age__sq")
+        BASE, "age_years", recoding=make_recoding("quadratic", {}), outputs=("age__lin", "age__sq")
     )
     changes = {c.field: (c.old, c.new) for c in _only_change(new, "age_years")}
     assert changes["kind"] == ("linear", "quadratic")
@@ -66,7 +66,7 @@ def test_kind_change() -> None:
 
 
 def test_parameter_change_names_the_parameter() -> None:
-    new = _changed(BASE, "hba1c_pct", recoding=Recoding("indicator", {"cut": 6.4}))
+    new = _changed(BASE, "hba1c_pct", recoding=make_recoding("indicator", {"cut": 6.4}))
     assert _only_change(new, "hba1c_pct") == (Change("params.cut", 6.5, 6.4),)
 
 
@@ -148,7 +148,7 @@ def test_whole_and_fractional_numbers_that_are_equal_match() -> None:
 
 
 def test_json_shape(tmp_path: Path, capsys) -> None:
-    new = _changed(BASE.without("bmi"), "hba1c_pct", recoding=Recoding("indicator", {"cut": 7}))
+    new = _changed(BASE.without("bmi"), "hba1c_pct", recoding=make_recoding("indicator", {"cut": 7}))
     new = new.with_set_aside(SetAside("bmi", "dropped"))
     old_path, new_path = _write(tmp_path, "old.json", BASE), _write(tmp_path, "new.json", new)
     code, out, _ = _run(capsys, "diff", str(old_path), str(new_path), "--format", "json")

@@ -148,7 +148,9 @@ def test_whole_and_fractional_numbers_that_are_equal_match() -> None:
 
 
 def test_json_shape(tmp_path: Path, capsys) -> None:
-    new = _changed(BASE.without("bmi"), "hba1c_pct", recoding=make_recoding("indicator", {"cut": 7}))
+    new = _changed(
+        BASE.without("bmi"), "hba1c_pct", recoding=make_recoding("indicator", {"cut": 7})
+    )
     new = new.with_set_aside(SetAside("bmi", "dropped"))
     old_path, new_path = _write(tmp_path, "old.json", BASE), _write(tmp_path, "new.json", new)
     code, out, _ = _run(capsys, "diff", str(old_path), str(new_path), "--format", "json")

@@ -15,9 +15,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from tui.engine.adjust import Adjustment
+from tui.engine.adjust import Adjustment, Source, open_adjustment
 from tui.engine.forms.base import Recoding
-from tui.intake.adjustment import Source, open_adjustment
 
 
 @dataclass(frozen=True)

@@ -21,8 +21,8 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
-from tui.intake.errors import InputProblem
 from tui.intake.profile import ColumnProfile
+from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 
 UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"

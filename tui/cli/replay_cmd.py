@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pandas as pd
 
-from tui.intake.errors import InputProblem
 from tui.intake.readers import read_table
+from tui.problems import InputProblem
 from tui.recodings.load import load
 from tui.recodings.replay import apply_to_frame, check_columns, range_excess
 from tui.recodings.table_out import WRITERS, check_writable, write_table

@@ -8,7 +8,7 @@ from pathlib import Path
 from tui import recodings
 from tui.atomic import atomic_write_text
 from tui.intake.dataset import open_dataset
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 from tui.report import build_report, render_html, render_markdown
 from tui.report.cells import DEFAULT_MIN_CELL
 

@@ -11,12 +11,12 @@ from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import as_csv, as_json, as_table
+from tui.engine.adjust import open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
-from tui.intake.adjustment import open_adjustment
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 
 def add_parser(commands: argparse._SubParsersAction) -> None:

@@ -22,6 +22,7 @@ from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
+from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 
@@ -353,7 +354,7 @@ def open_session(
     weights every fit carries. Raises InputProblem."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
-    if data.exists() and path.exists() and path.resolve() == data.resolve():
+    if data.exists() and same_file(path, data):
         raise InputProblem(f"--log {path} is the data file; choose another name for the log")
     dataset = open_dataset(data, outcome, event, exclude)
     if not [c for c in dataset.columns if c != weight]:

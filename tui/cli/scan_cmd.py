@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import sys
-from pathlib import Path
 
 from tui import recodings
 from tui.atomic import atomic_write_text
@@ -16,6 +15,7 @@ from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
+from tui.paths import same_file
 from tui.problems import InputProblem
 
 
@@ -52,7 +52,7 @@ def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
 
 
 def run(args: argparse.Namespace) -> int:
-    if args.output and Path(args.output).resolve() == Path(args.data).resolve():
+    if args.output and same_file(args.output, args.data):
         raise InputProblem(f"--output {args.output} would overwrite the data file")
     data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}

@@ -22,6 +22,7 @@ from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
+from tui.intake.weights import FREQUENCY
 from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
@@ -348,7 +349,7 @@ def open_session(
     settings: ScanSettings | None = None,
     adjust: tuple[str, ...] | list[str] = (),
     weight: str | None = None,
-    weight_kind: str = "frequency",
+    weight_kind: str = FREQUENCY,
 ) -> ReviewSession:
     """Read the data and the log (or start an empty one), and build the covariates and
     weights every fit carries. Raises InputProblem."""

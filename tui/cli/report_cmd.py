@@ -8,6 +8,7 @@ from pathlib import Path
 from tui import recodings
 from tui.atomic import atomic_write_text
 from tui.intake.dataset import open_dataset
+from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
 from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.report import build_report, render_html, render_markdown
@@ -36,8 +37,8 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     parser.add_argument("--weight", metavar="COL", help="row weights used in every fit")
     parser.add_argument(
         "--weight-kind",
-        choices=("frequency", "survey"),
-        default="frequency",
+        choices=WEIGHT_KINDS,
+        default=FREQUENCY,
         help="frequency: each row stands for w rows; survey: sampling weights",
     )
     parser.set_defaults(run=run)

@@ -19,6 +19,7 @@ from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
+from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
@@ -196,7 +197,7 @@ def build_report(
     min_cell: int = 10,
     now: datetime | None = None,
     weight: str | None = None,
-    weight_kind: str = "frequency",
+    weight_kind: str = FREQUENCY,
 ) -> ReportContent:
     """Recompute the evidence for every decision in ``log`` from ``data``.
 

@@ -72,8 +72,7 @@ def run(args: argparse.Namespace) -> int:
     elif args.format == "csv":
         text = as_csv(ranked)
     else:
-        skipped = [(p.name, "not numeric") for p in data.skipped]
-        text = as_table(ranked, skipped, adjust.describe() if adjust else "")
+        text = as_table(ranked, adjust.describe() if adjust else "")
     if args.output:
         atomic_write_text(args.output, text)
     else:

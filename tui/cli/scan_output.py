@@ -47,10 +47,9 @@ def as_csv(scans: Sequence[ColumnScan]) -> str:
     return out.getvalue()
 
 
-def as_table(
-    scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (), adjustment: str = ""
-) -> str:
-    """A fixed-width table, most non-linear first, then the columns not scanned."""
+def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
+    """A fixed-width table, most non-linear first; non-numeric columns are rows of their own
+    (flag ``not-numeric``), listed once like every other column."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
@@ -91,7 +90,5 @@ def as_table(
     )
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
-    for name, why in skipped:
-        lines.append(f"not scanned: {name} ({why})")
     lines.append(f"Caution: {SHORT_CAUTION}")
     return "\n".join(lines) + "\n"

@@ -1,3 +1,9 @@
+"""Shared test helpers.
+
+Golden files (``tests/golden``) are rewritten, after a deliberate change of output, by running
+the tests that read them with ``BENDWISE_UPDATE_GOLDEN=1``; review the diff before committing.
+"""
+
 import os
 import sys
 from pathlib import Path
@@ -7,6 +13,9 @@ import pytest
 
 REPO = Path(__file__).resolve().parent.parent
 SAMPLE = REPO / "sample_data"
+GOLDEN = REPO / "tests" / "golden"
+UPDATE_GOLDEN = os.environ.get("BENDWISE_UPDATE_GOLDEN") == "1"
+"""``BENDWISE_UPDATE_GOLDEN=1``: rewrite the golden files from this run (the one switch)."""
 
 # Deterministic terminals for app tests.
 os.environ.setdefault("TEXTUAL_ANIMATIONS", "none")

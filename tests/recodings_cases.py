@@ -1,27 +1,24 @@
 """Shared cases for the recoding-log tests: a log holding every kind, and the sample files.
 
 The numbers are written out by hand (not learned), so the golden files change only when the
-file format or a kind's SQL changes, never when the engine's learning does.
+file format or a kind's SQL changes, never when the engine's learning does. After such a
+change, rewrite them with ``BENDWISE_UPDATE_GOLDEN=1 pytest tests/test_recodings_format.py
+tests/test_recodings_sql.py`` and review the diff.
 """
 
 from __future__ import annotations
 
-import os
 from dataclasses import replace
-from pathlib import Path
 
-from conftest import SAMPLE
+from conftest import GOLDEN, SAMPLE, UPDATE_GOLDEN
 
 from tui import __version__
 from tui.engine.forms import Recoding, make_recoding
 from tui.recodings import Decision, RecodingLog, SetAside, SourceInfo
 
-GOLDEN = Path(__file__).resolve().parent / "golden"
 TRAINING = SAMPLE / "surgical_cohort.csv"
 FRESH = SAMPLE / "surgical_cohort_fresh.csv"
 OUTCOME = "wound_infection_30d"
-UPDATE_GOLDEN = os.environ.get("BENDWISE_UPDATE_GOLDEN") == "1"
-"""Set to 1 to rewrite the golden files after a deliberate change of format or SQL."""
 
 WRITER = f"bendwise {__version__}"
 WHEN = "2026-03-02T09:15:00+00:00"

@@ -23,9 +23,9 @@ from tui.app.session import ReviewSession, open_session
 from tui.app.widgets.forms_table import FormsTable
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import TriageTable
+from tui.engine.adjust import open_adjustment
 from tui.engine.runner import scan_columns
 from tui.engine.scan import rank
-from tui.intake.adjustment import open_adjustment
 
 SIZE = (80, 24)
 LOG = "fleet.recodings.json"

@@ -6,7 +6,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tui.intake import CodedOutcome, InputProblem, code_outcome
+from tui.intake import CodedOutcome, code_outcome
+from tui.problems import InputProblem
 
 # Invented scenario: delivery vans in a depot, did each van break down this quarter?
 

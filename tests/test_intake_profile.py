@@ -8,7 +8,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tui.intake import ColumnProfile, InputProblem, numeric_values, profile_column, profile_frame
+from tui.intake import ColumnProfile, numeric_values, profile_column, profile_frame
+from tui.problems import InputProblem
 
 # Invented scenario: bicycles returned to a rental dock, was each one late?
 

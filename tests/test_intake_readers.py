@@ -13,9 +13,10 @@ import pandas as pd
 import pytest
 from pandas.api.types import is_numeric_dtype
 
-from tui.intake import SUPPORTED, InputProblem, list_columns, read_column, read_table
+from tui.intake import SUPPORTED, list_columns, read_column, read_table
 from tui.intake import readers as readers_module
 from tui.intake.readers import drop_cached_table
+from tui.problems import InputProblem
 
 # Invented scenario: seedlings in a greenhouse trial, did each one wilt?
 # Names stay within 8 characters so the SAS transport format can hold them.

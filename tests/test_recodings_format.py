@@ -13,7 +13,7 @@ from recodings_cases import every_kind_log, golden_text, read_golden
 
 from tui import atomic, recodings
 from tui.engine.forms import KINDS, make_recoding
-from tui.intake import InputProblem
+from tui.problems import InputProblem
 from tui.recodings import Decision, LogProblem
 
 GOLDEN_LOG = "every_kind.recodings.json"

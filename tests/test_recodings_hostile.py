@@ -242,3 +242,34 @@ def test_commands_print_one_line_and_exit_2_for_a_hostile_log(tmp_path, command)
 def test_the_hostile_cases_start_from_a_valid_log():
     # Guards the tests above: each failure comes from its change, not from the base file.
     assert recodings.validate(copy.deepcopy(golden_document())).decisions
+
+
+def _refusal(document: dict) -> str:
+    with pytest.raises(LogProblem) as caught:
+        recodings.loads(json.dumps(document), "log.json")
+    return caught.value.path
+
+
+def test_schema_problems_come_in_document_order_not_by_name():
+    # Two problems: "source" is written before "recodings" in the file, but sorts after it.
+    document = golden_document()
+    document["source"]["rows"] = "5000"
+    document[R][LINEAR]["note"] = None
+    assert list(document).index("source") < list(document).index(R)
+    assert _refusal(document) == "source.rows"
+    # The same two problems, with the recodings written first: now they are named first.
+    moved = {k: document[k] for k in document if k not in ("source", R)}
+    moved[R], moved["source"] = document[R], document["source"]
+    assert _refusal(moved) == "recodings[0].note"
+
+
+def test_unknown_keys_are_named_in_document_order():
+    document = golden_document()
+    document[R][LINEAR]["zone"] = 1
+    document[R][LINEAR]["area"] = 2
+    assert _refusal(document) == "recodings[0].zone"
+    # An unknown key written after a problem deeper in the same entry comes second.
+    document = golden_document()
+    document[R][LINEAR]["params"] = {"power": 2}
+    document[R][LINEAR]["after"] = 1
+    assert _refusal(document) == "recodings[0].params.power"

@@ -15,7 +15,8 @@ from tui.engine.forms.bands import BandsCandidate
 from tui.engine.forms.base import design_matrix, fit_on_counts
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.spline import SplineCandidate
-from tui.intake import InputProblem, numeric_values, read_table
+from tui.intake import numeric_values, read_table
+from tui.problems import InputProblem
 from tui.recodings import Decision, RecodingLog, SourceInfo
 
 # Which sample column each engine-learned candidate is tried on (shapes planted there).

@@ -1,14 +1,16 @@
-"""``bendwise report``: golden files, the small-cell rule, HTML safety and bad input."""
+"""``bendwise report``: golden files, the small-cell rule, HTML safety and bad input.
 
-import os
+After a deliberate change of the report, rewrite its golden files with
+``BENDWISE_UPDATE_GOLDEN=1 pytest tests/test_report.py`` and review the diff.
+"""
+
 import re
 from datetime import UTC, datetime
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 import pytest
-from conftest import SAMPLE, run_cli
+from conftest import GOLDEN, SAMPLE, UPDATE_GOLDEN, run_cli
 
 from tui import recodings
 from tui.engine.counts import reduce_column
@@ -18,7 +20,6 @@ from tui.intake.dataset import file_sha256, open_dataset
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 from tui.report import build_report, render_html, render_markdown
 
-GOLDEN = Path(__file__).parent / "golden"
 COHORT = SAMPLE / "surgical_cohort.csv"
 FIXED_NOW = datetime(2026, 1, 15, 9, 30, tzinfo=UTC)
 DATED = re.compile(r"^(<p>)?Written .* by bendwise .*$", re.M)
@@ -65,7 +66,7 @@ def sample_report():
 def test_golden_report(sample_report, name, render):
     text = render(sample_report)
     golden = GOLDEN / name
-    if os.environ.get("BENDWISE_WRITE_GOLDEN"):  # regenerate on purpose, then review the diff
+    if UPDATE_GOLDEN:  # regenerate on purpose, then review the diff
         golden.write_text(text)
     assert text == golden.read_text()
 

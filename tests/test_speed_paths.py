@@ -24,7 +24,7 @@ from tui.engine.forms.spline import KNOT_PERCENTILES, spline_basis
 from tui.engine.runner import scan_columns
 from tui.engine.scan import rank, scan_column
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset, open_whole
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 
 def _curved(rng, n):

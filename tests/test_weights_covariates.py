@@ -6,8 +6,8 @@ import pytest
 
 from tui.engine.covariates import CovariateError, build_covariates
 from tui.engine.forms import make_recoding
-from tui.intake.errors import InputProblem
 from tui.intake.weights import check_weights
+from tui.problems import InputProblem
 
 
 def test_frequency_weights_kept_as_given_and_zero_rows_dropped():

@@ -18,8 +18,9 @@ import pandas as pd
 import pytest
 from conftest import run_cli
 
-from tui.intake import InputProblem, list_columns, read_column, read_table
+from tui.intake import list_columns, read_column, read_table
 from tui.intake.readers import drop_cached_table
+from tui.problems import InputProblem
 
 pyreadstat = pytest.importorskip("pyreadstat")
 

@@ -15,9 +15,9 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from tui.engine.adjust import Adjustment
+from tui.engine.adjust import Adjustment, Source, open_adjustment
 from tui.engine.forms.base import Recoding
-from tui.intake.adjustment import Source, open_adjustment
+from tui.intake.weights import FREQUENCY
 
 
 @dataclass(frozen=True)
@@ -82,7 +82,7 @@ class Adjustments:
             if key in self._built:
                 return key
         built = open_adjustment(
-            self._data, self._outcome, names, self._weight, self._kind or "frequency", used
+            self._data, self._outcome, names, self._weight, self._kind or FREQUENCY, used
         )
         with self._lock:
             self._built[key] = built

@@ -33,7 +33,7 @@ from tui.app.session import ReviewSession
 from tui.engine.adjust import Adjustment
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 FIRST, MODEL = "first", "model"
 """The two kinds of scan: every column at the start; the undecided ones in the working model."""

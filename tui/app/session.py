@@ -21,8 +21,10 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
-from tui.intake.errors import InputProblem
 from tui.intake.profile import ColumnProfile
+from tui.intake.weights import FREQUENCY
+from tui.paths import same_file
+from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 
 UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"
@@ -347,13 +349,13 @@ def open_session(
     settings: ScanSettings | None = None,
     adjust: tuple[str, ...] | list[str] = (),
     weight: str | None = None,
-    weight_kind: str = "frequency",
+    weight_kind: str = FREQUENCY,
 ) -> ReviewSession:
     """Read the data and the log (or start an empty one), and build the covariates and
     weights every fit carries. Raises InputProblem."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
-    if data.exists() and path.exists() and path.resolve() == data.resolve():
+    if data.exists() and same_file(path, data):
         raise InputProblem(f"--log {path} is the data file; choose another name for the log")
     dataset = open_dataset(data, outcome, event, exclude)
     if not [c for c in dataset.columns if c != weight]:

@@ -6,6 +6,7 @@ import argparse
 
 from tui.engine.forms.spline import DEFAULT_KNOTS, KNOT_PERCENTILES
 from tui.engine.groups import MAX_GROUPS, MIN_GROUPS
+from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
 
 
 def column_list(text: str) -> list[str]:
@@ -76,8 +77,8 @@ def add_adjust_options(parser: argparse.ArgumentParser, forms_from_log: bool = F
     parser.add_argument("--weight", metavar="COL", help="row weights used in every fit")
     parser.add_argument(
         "--weight-kind",
-        choices=("frequency", "survey"),
-        default="frequency",
+        choices=WEIGHT_KINDS,
+        default=FREQUENCY,
         help="frequency: each row stands for w rows; survey: sampling weights, rescaled "
         "to average 1 (tests then ignore the sampling design)",
     )

@@ -8,7 +8,7 @@ from collections.abc import Sequence
 
 from tui import __version__
 from tui.cli import diff_cmd, replay_cmd, report_cmd, review_cmd, scan_cmd, sql_cmd
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 
 class _Parser(argparse.ArgumentParser):

@@ -3,14 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from pathlib import Path
 
 import pandas as pd
 
-from tui.intake.errors import InputProblem
 from tui.intake.readers import read_table
+from tui.paths import same_file
+from tui.problems import InputProblem
 from tui.recodings.load import load
 from tui.recodings.replay import apply_to_frame, check_columns, range_excess
 from tui.recodings.table_out import WRITERS, check_writable, write_table
@@ -68,21 +68,12 @@ def _apply_renames(frame: pd.DataFrame, renames: list[tuple[str, str]], data: Pa
     return frame.rename(columns={new: old for old, new in renames})
 
 
-def _same_file(a: Path, b: Path) -> bool:
-    if a.resolve() == b.resolve():
-        return True
-    try:
-        return a.exists() and b.exists() and os.path.samefile(a, b)
-    except OSError:
-        return False
-
-
 def run(args: argparse.Namespace) -> int:
     out, data, log_path = Path(args.output), Path(args.data), Path(args.log)
     # Every check that can refuse comes before the first byte is written.
-    if _same_file(out, data):
+    if same_file(out, data):
         raise InputProblem(f"--output {out} is the data file; replay never writes over its input")
-    if _same_file(out, log_path):
+    if same_file(out, log_path):
         raise InputProblem(f"--output {out} is the recoding log; choose another file")
     check_writable(out)
     if out.exists() and not args.force:

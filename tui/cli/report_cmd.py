@@ -8,7 +8,9 @@ from pathlib import Path
 from tui import recodings
 from tui.atomic import atomic_write_text
 from tui.intake.dataset import open_dataset
-from tui.intake.errors import InputProblem
+from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
+from tui.paths import same_file
+from tui.problems import InputProblem
 from tui.report import build_report, render_html, render_markdown
 from tui.report.cells import DEFAULT_MIN_CELL
 
@@ -35,8 +37,8 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     parser.add_argument("--weight", metavar="COL", help="row weights used in every fit")
     parser.add_argument(
         "--weight-kind",
-        choices=("frequency", "survey"),
-        default="frequency",
+        choices=WEIGHT_KINDS,
+        default=FREQUENCY,
         help="frequency: each row stands for w rows; survey: sampling weights",
     )
     parser.set_defaults(run=run)
@@ -55,7 +57,7 @@ def run(args: argparse.Namespace) -> int:
     if render is None:
         raise InputProblem(f"--output must end in .md or .html, not {target.name!r}")
     for source in (args.log, args.data):
-        if target.resolve() == Path(source).resolve():
+        if same_file(target, source):
             raise InputProblem(f"--output {args.output} would overwrite {source}")
     log = recodings.load(args.log)
     data = open_dataset(args.data, log.outcome_column, event_option(log.event))

@@ -4,19 +4,19 @@ from __future__ import annotations
 
 import argparse
 import sys
-from pathlib import Path
 
 from tui import recodings
 from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import as_csv, as_json, as_table
+from tui.engine.adjust import open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
-from tui.intake.adjustment import open_adjustment
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
-from tui.intake.errors import InputProblem
+from tui.paths import same_file
+from tui.problems import InputProblem
 
 
 def add_parser(commands: argparse._SubParsersAction) -> None:
@@ -52,7 +52,7 @@ def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
 
 
 def run(args: argparse.Namespace) -> int:
-    if args.output and Path(args.output).resolve() == Path(args.data).resolve():
+    if args.output and same_file(args.output, args.data):
         raise InputProblem(f"--output {args.output} would overwrite the data file")
     data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
@@ -72,8 +72,7 @@ def run(args: argparse.Namespace) -> int:
     elif args.format == "csv":
         text = as_csv(ranked)
     else:
-        skipped = [(p.name, "not numeric") for p in data.skipped]
-        text = as_table(ranked, skipped, adjust.describe() if adjust else "")
+        text = as_table(ranked, adjust.describe() if adjust else "")
     if args.output:
         atomic_write_text(args.output, text)
     else:

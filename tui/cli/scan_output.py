@@ -5,12 +5,12 @@ from __future__ import annotations
 import csv
 import io
 import json
-import math
 from collections.abc import Sequence
 
 from tui.cautions import SHORT_CAUTION
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.scan import ColumnScan
+from tui.numbers_text import number_text, p_text
 
 FIELDS = (
     "column",
@@ -47,20 +47,9 @@ def as_csv(scans: Sequence[ColumnScan]) -> str:
     return out.getvalue()
 
 
-def _p(value: float | None) -> str:
-    if value is None or not math.isfinite(value):
-        return "-"
-    return "<0.0001" if value < 1e-4 else f"{value:.4f}"
-
-
-def _num(value: float | None, digits: int = 1) -> str:
-    return "-" if value is None or not math.isfinite(value) else f"{value:.{digits}f}"
-
-
-def as_table(
-    scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (), adjustment: str = ""
-) -> str:
-    """A fixed-width table, most non-linear first, then the columns not scanned."""
+def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
+    """A fixed-width table, most non-linear first; non-numeric columns are rows of their own
+    (flag ``not-numeric``), listed once like every other column."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
@@ -72,13 +61,13 @@ def as_table(
                 str(s.n),
                 str(s.missing),
                 str(s.distinct),
-                _num(s.score),
+                number_text(s.score),
                 "-" if s.df is None else str(s.df),
-                _p(s.p_value),
-                _p(s.q_value),
+                p_text(s.p_value),
+                p_text(s.q_value),
                 s.shape or "-",
                 s.best_form or "-",
-                _num(s.delta_aic),
+                number_text(s.delta_aic),
                 ",".join(s.flags) or "-",
             )
         )
@@ -101,7 +90,5 @@ def as_table(
     )
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
-    for name, why in skipped:
-        lines.append(f"not scanned: {name} ({why})")
     lines.append(f"Caution: {SHORT_CAUTION}")
     return "\n".join(lines) + "\n"

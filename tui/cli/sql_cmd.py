@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 from tui.recodings.load import load
 from tui.recodings.sql import DIALECTS, to_sql
 

@@ -103,13 +103,6 @@ class ReducedCounts:
             return np.interp(probs, np.linspace(0.0, 1.0, self.grid.size), self.grid)
         return weighted_type7_quantile(self.x, self.trials, probs)
 
-    def subset(self, mask: np.ndarray) -> ReducedCounts:
-        """The rows at the x positions where ``mask`` is true."""
-        cov = None if self.covariates is None else self.covariates[mask]
-        return ReducedCounts(
-            self.x[mask], self.trials[mask], self.events[mask], self.exact, covariates=cov
-        )
-
 
 def rows_with_covariates(
     x: np.ndarray,

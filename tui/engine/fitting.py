@@ -66,10 +66,6 @@ class LogisticFit:
         """Usable for comparison: converged, not separated, full rank."""
         return self.converged and not self.separated and not self.rank_deficient
 
-    def linear_predictor(self, design: np.ndarray) -> np.ndarray:
-        """Log-odds for the rows of ``design`` (intercept column included)."""
-        return design @ self.coef
-
 
 _BLAS_CONTROL: list[object] = []  # the threadpoolctl controller once looked up, or None
 

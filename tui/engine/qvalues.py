@@ -1,22 +1,16 @@
-"""Benjamini-Hochberg q-values (Benjamini & Hochberg 1995)."""
+"""Benjamini-Hochberg q-values (Benjamini & Hochberg 1995), by statsmodels."""
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 
 import numpy as np
+from statsmodels.stats.multitest import multipletests
 
 
 def bh_qvalues(p_values: Sequence[float]) -> np.ndarray:
     """Step-up false discovery rate adjusted p-values, in input order."""
     p = np.asarray(p_values, dtype=float)
-    m = p.size
-    if m == 0:
+    if p.size == 0:
         return p
-    order = np.argsort(p)
-    ranked = p[order] * m / np.arange(1, m + 1)
-    # Running minimum from the largest p down keeps the q-values monotone.
-    ranked = np.minimum.accumulate(ranked[::-1])[::-1]
-    q = np.empty(m)
-    q[order] = np.minimum(ranked, 1.0)
-    return q
+    return multipletests(p, method="fdr_bh")[1]

@@ -1,6 +1,5 @@
 """Intake: read data files, code the outcome, profile the columns. Knows nothing of screens."""
 
-from tui.intake.errors import InputProblem, closest_names
 from tui.intake.outcome import CodedOutcome, code_outcome
 from tui.intake.profile import (
     ColumnProfile,
@@ -21,8 +20,6 @@ __all__ = [
     "SUPPORTED",
     "CodedOutcome",
     "ColumnProfile",
-    "InputProblem",
-    "closest_names",
     "code_outcome",
     "drop_cached_table",
     "is_numeric_column",

@@ -10,7 +10,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from tui.intake.errors import InputProblem, closest_names
+from tui.names import closest_names
+from tui.problems import InputProblem
 
 
 @dataclass(frozen=True, eq=False)  # eq=False: comparing arrays field by field is ambiguous

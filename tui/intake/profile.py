@@ -13,7 +13,8 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import is_bool_dtype, is_complex_dtype, is_numeric_dtype
 
-from tui.intake.errors import InputProblem, closest_names
+from tui.names import closest_names
+from tui.problems import InputProblem
 
 
 @dataclass(frozen=True)

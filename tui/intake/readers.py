@@ -17,7 +17,8 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import infer_dtype
 
-from tui.intake.errors import InputProblem, closest_names
+from tui.names import closest_names
+from tui.problems import InputProblem
 
 PathLike = str | os.PathLike[str]
 T = TypeVar("T")

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 FREQUENCY, SURVEY = "frequency", "survey"
 WEIGHT_KINDS = (FREQUENCY, SURVEY)

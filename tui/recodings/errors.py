@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 
 class EntryProblem(ValueError):

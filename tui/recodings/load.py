@@ -170,9 +170,28 @@ def _check_schema(document: Mapping[str, Any]) -> None:
     errors = list(_validator().iter_errors(document))
     if not errors:
         return
-    # The first problem in document order, so the message points at the earliest entry.
-    first = min(errors, key=lambda e: [(0, p) if isinstance(p, int) else (1, p) for p in e.path])
+    # The first problem in document order (as the file is written, not sorted by key), so
+    # the message points at the earliest entry; ties keep the validator's order.
+    first = min(errors, key=lambda e: _position(document, e))
     raise EntryProblem(*_describe(first))
+
+
+def _position(document: Any, error: jsonschema.ValidationError) -> list[int]:
+    """Where the error sits in the file: the place of each key or item on its path."""
+    where: list[int] = []
+    item = document
+    for part in error.path:
+        where.append(list(item).index(part) if isinstance(item, dict) else int(part))
+        item = item[part]
+    if error.validator == "additionalProperties" and isinstance(item, dict):
+        where.append(list(item).index(_unknown_keys(error)[0]))
+    return where
+
+
+def _unknown_keys(error: jsonschema.ValidationError) -> list[str]:
+    """Keys the schema does not allow here, in the order the file has them."""
+    allowed = set(error.schema.get("properties", {}))
+    return [k for k in error.instance if k not in allowed]
 
 
 def _describe(error: jsonschema.ValidationError) -> tuple[str, str]:
@@ -184,7 +203,7 @@ def _describe(error: jsonschema.ValidationError) -> tuple[str, str]:
         return entry_path([*path, missing]), "is missing"
     if rule == "additionalProperties":
         allowed = set(error.schema.get("properties", {}))
-        extra = sorted(k for k in found if k not in allowed)
+        extra = _unknown_keys(error)
         if not allowed:
             return entry_path([*path, extra[0]]), "is not allowed: this object takes no keys"
         known = ", ".join(sorted(allowed))

@@ -7,8 +7,9 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from tui.intake.errors import InputProblem, closest_names
 from tui.intake.profile import is_numeric_column, numeric_values
+from tui.names import closest_names
+from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog
 
 

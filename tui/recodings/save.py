@@ -13,7 +13,7 @@ from pathlib import Path
 from typing import Any
 
 from tui.atomic import atomic_write_text
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 from tui.recodings.codec import to_document
 from tui.recodings.errors import LogProblem
 from tui.recodings.load import validate

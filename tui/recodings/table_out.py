@@ -10,7 +10,7 @@ from pathlib import Path
 import pandas as pd
 
 from tui.atomic import atomic_write_bytes
-from tui.intake.errors import InputProblem
+from tui.problems import InputProblem
 
 
 def _csv(frame: pd.DataFrame, sep: str) -> bytes:

@@ -11,16 +11,16 @@ import numpy as np
 
 from tui import __version__
 from tui.cautions import CAUTIONS
-from tui.engine.adjust import Adjustment
+from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.compare import FormFit, compare_forms
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
-from tui.intake.adjustment import open_adjustment
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
-from tui.intake.errors import InputProblem
+from tui.intake.weights import FREQUENCY
+from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
 from tui.report.words import params_in_words
@@ -197,7 +197,7 @@ def build_report(
     min_cell: int = 10,
     now: datetime | None = None,
     weight: str | None = None,
-    weight_kind: str = "frequency",
+    weight_kind: str = FREQUENCY,
 ) -> ReportContent:
     """Recompute the evidence for every decision in ``log`` from ``data``.
 

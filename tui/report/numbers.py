@@ -2,23 +2,19 @@
 
 from __future__ import annotations
 
-import math
+from tui.numbers_text import EN_DASH, number_text, p_text, value_text
 
 
 def fmt(value: float | None, digits: int = 2) -> str:
-    if value is None or not math.isfinite(value):
-        return "–"
-    return f"{value:.{digits}f}"
+    return number_text(value, digits, dash=EN_DASH)
 
 
 def fmt_p(value: float | None) -> str:
-    if value is None or not math.isfinite(value):
-        return "–"
-    return "<0.0001" if value < 1e-4 else f"{value:.4f}"
+    return p_text(value, dash=EN_DASH)
 
 
 def fmt_x(value: float | None) -> str:
-    return "–" if value is None else f"{value:.4g}"
+    return value_text(value, 4, dash=EN_DASH)
 
 
 EVIDENCE_SHOWN = (

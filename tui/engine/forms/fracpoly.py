@@ -42,10 +42,6 @@ def fp_power(z: np.ndarray, p: float) -> np.ndarray:
     return out
 
 
-def _power_label(p: float) -> str:
-    return "ln" if p == 0 else f"^{p:g}"
-
-
 def _power_sql(z: str, p: float) -> str:
     if p == 0:
         return f"LN({z})"

@@ -1,0 +1,15 @@
+"""Name matching for messages: "column 'hieght' not found (closest: height)"."""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Iterable
+
+
+def closest_names(name: str, choices: Iterable[str], limit: int = 3) -> list[str]:
+    """Up to ``limit`` names from ``choices`` that look like ``name`` (case ignored), best first."""
+    by_lower: dict[str, str] = {}
+    for choice in choices:
+        by_lower.setdefault(str(choice).lower(), str(choice))
+    found = difflib.get_close_matches(name.lower(), list(by_lower), n=limit, cutoff=0.6)
+    return [by_lower[key] for key in found]

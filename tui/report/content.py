@@ -12,7 +12,8 @@ import numpy as np
 from tui import __version__
 from tui.cautions import CAUTIONS
 from tui.engine.adjust import Adjustment
-from tui.engine.compare import FormFit, compare_forms
+from tui.engine.column_fits import CandidateSet, fit_column
+from tui.engine.compare import FormFit
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
 from tui.engine.recorded import fit_recoding
@@ -147,7 +148,9 @@ def _section(
         if adjust is None
         else reduce_for_scan(x, data.outcome.y, settings, adjust, decision.column).counts
     )
-    table = compare_forms(counts, groups=groups_n, knots=knots_n)
+    table = fit_column(counts, CandidateSet(groups_n, knots_n), smooth=False).table
+    if table is None:  # no finite values, or one outcome class among the rows with one
+        raise InputProblem(f"{data.path.name}: '{decision.column}' cannot be fitted again")
     title = f"accepted: {decision.recoding.describe()}"
     chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]

@@ -12,7 +12,7 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
-from tui.app.fit_cache import TAIL_SHARE, ColumnFits, FitCache, FitRequest
+from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
 from tui.app.notices import not_saved, tell
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
@@ -24,6 +24,7 @@ from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
 from tui.cautions import CAUTIONS
+from tui.engine.column_fits import TAIL_SHARE
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate

@@ -13,7 +13,7 @@ from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-from tui.app.adjusting import Basis
+from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
 from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts

@@ -15,8 +15,8 @@ import statsmodels.api as sm
 from app_fleet import OUTCOME, WEIGHT, quick_scanner, settle, write_fleet, write_weighted_fleet
 
 from tui import recodings
-from tui.app.adjusting import Basis
 from tui.app.app import ReviewApp
+from tui.app.basis import Basis
 from tui.app.fit_cache import FitCache, FitRequest
 from tui.app.screens.inspect import InspectScreen
 from tui.app.session import ReviewSession, open_session

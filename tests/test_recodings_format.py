@@ -15,6 +15,7 @@ from tui import atomic, recodings
 from tui.engine.forms import KINDS, make_recoding
 from tui.problems import InputProblem
 from tui.recodings import Decision, LogProblem
+from tui.recodings.evidence import Evidence
 
 GOLDEN_LOG = "every_kind.recodings.json"
 
@@ -81,11 +82,13 @@ def test_evidence_numbers_become_plain_json():
     first = log.decisions[0]
     odd = replace(
         first,
-        evidence={"delta_aic": float("nan"), "df": np.int64(2), "knots": (1.0, np.float64(2.5))},
+        evidence=Evidence.from_json(
+            {"delta_aic": float("nan"), "df": np.int64(2), "adjusted_for": ("age", np.str_("w"))}
+        ),
     )
     document = json.loads(recodings.dumps(log.with_decision(odd)))
     entry = next(e for e in document["recodings"] if e["column"] == first.column)
-    assert entry["evidence"] == {"delta_aic": None, "df": 2, "knots": [1.0, 2.5]}
+    assert entry["evidence"] == {"delta_aic": None, "df": 2, "adjusted_for": ["age", "w"]}
 
 
 @pytest.mark.parametrize(

@@ -1,9 +1,11 @@
 """The review app: the column list first; inspection, log, help and prompts on top.
 
 The scan runs in a thread worker owned by the app, so it keeps going whichever screen is
-shown; results reach the list screen through ``call_from_thread``. A re-score of the
-undecided columns in the working model (every accepted column as a covariate) runs in the
-same way, in the same worker group, so only one scan runs at a time.
+shown; the worker posts a message per column (``tui.app.messages``) and the app's handlers
+put the results in the session and tell the list screen. A re-score of the undecided
+columns in the working model (every accepted column as a covariate) runs in the same way,
+in the same worker group, so only one scan runs at a time. Screens start and stop scans
+through the app's actions (``app.working_model``, ``app.first_scores``).
 """
 
 from __future__ import annotations
@@ -13,14 +15,21 @@ from multiprocessing import resource_tracker
 from typing import Protocol
 
 import numpy as np
-from textual import work
+from textual import on, work
 from textual.app import App
 from textual.binding import Binding
 from textual.worker import Worker, WorkerState, get_current_worker
 
-from tui.app.adjusting import Basis
 from tui.app.commands import ReviewCommands
 from tui.app.fit_cache import FitCache
+from tui.app.messages import (
+    ColumnRescored,
+    RescoreDone,
+    RescoreStarted,
+    ScanDone,
+    ScanProgress,
+    ScoresChanged,
+)
 from tui.app.notices import tell
 from tui.app.screens.cautions_view import CautionsView
 from tui.app.screens.confirm_prompt import ConfirmPrompt
@@ -87,7 +96,8 @@ class ReviewApp(App[None]):
         self.triage = TriageScreen(session, self.cache)
         self.scan_kind = FIRST
         """Which scan runs (or ran last)."""
-        self._model_run = 0  # results of an older (stopped) re-score are ignored
+        self._run = 0  # messages of an older (stopped) scan are ignored
+        self._open = False  # a scan started and its last message is not handled yet
         self._model_done = self._model_total = 0
 
     def on_mount(self) -> None:
@@ -95,10 +105,26 @@ class ReviewApp(App[None]):
         if self.session.source_warning:
             # Short: a long toast covers the list. The full text stays on the warning line.
             tell(self, "log written for other data: see the ! line", severity="warning", timeout=6)
-        self.scan()
+        self._start(FIRST)
+        self.scan(self._run)
+
+    def _start(self, kind: str) -> None:
+        """A new scan of ``kind``: messages of any earlier one are ignored from now on."""
+        self.scan_kind = kind
+        self._run += 1
+        self._open = True
+
+    def scanning(self) -> bool:
+        """A scan (first or working-model) is under way, or its last message is on its way."""
+        return self._open or any(
+            w.group == "scan" and w.state in (WorkerState.PENDING, WorkerState.RUNNING)
+            for w in self.workers
+        )
+
+    # --- the first scan ------------------------------------------------------------------
 
     @work(thread=True, exclusive=True, group="scan", exit_on_error=False)
-    def scan(self) -> None:
+    def scan(self, run: int) -> None:
         """Scan every column; the list fills in as each one finishes."""
         worker = get_current_worker()
         s = self.session
@@ -113,21 +139,38 @@ class ReviewApp(App[None]):
             if worker.is_cancelled:
                 return
             found.append(result)
-            self.call_from_thread(self._scanned, rank(found), len(found), total, False)
-        self.call_from_thread(self._scanned, rank(found), len(found), total, True)
+            self.post_message(ScanProgress(rank(found), len(found), total, run))
+        self.post_message(ScanDone(rank(found), total, run))
 
-    def _scanned(self, ranked: list[ColumnScan], done: int, total: int, finished: bool) -> None:
+    @on(ScanProgress)
+    def _scanned(self, message: ScanProgress) -> None:
+        if message.run == self._run:
+            self._first_results(message.ranked, False)
+            self.triage.scan_progress(message.done, message.total, False, None)
+
+    @on(ScanDone)
+    def _scan_done(self, message: ScanDone) -> None:
+        if message.run == self._run:
+            self._open = False
+            self._first_results(message.ranked, True)
+            self.triage.scan_progress(len(message.ranked), message.total, True, None)
+
+    def _first_results(self, ranked: list[ColumnScan], finished: bool) -> None:
         self.session.ranked = ranked
         self.session.first_ranked = ranked
         self.session.scan_finished = finished
-        self.triage.scan_progress(done, total, finished, None)
 
-    def scanning(self) -> bool:
-        """A scan (first or working-model) is under way."""
-        return any(
-            w.group == "scan" and w.state in (WorkerState.PENDING, WorkerState.RUNNING)
-            for w in self.workers
-        )
+    # --- re-scores in the working model ---------------------------------------------------
+
+    def action_working_model(self) -> None:
+        """Re-score the undecided columns in the working model."""
+        why_not = self.score_in_working_model()
+        if why_not is not None:
+            tell(self, why_not, severity="warning")
+            return
+        model = self.session.working_model()
+        size = f"{len(model)} column" + ("" if len(model) == 1 else "s")
+        tell(self, f"re-scoring in the working model ({size})", timeout=4)
 
     def score_in_working_model(self) -> str | None:
         """Start re-scoring the undecided columns in the working model; returns why it
@@ -140,12 +183,11 @@ class ReviewApp(App[None]):
             return "every column is decided: nothing to re-score"
         if not s.working_model():
             return "the working model is empty: accept a form (a) or keep a column linear (l)"
-        self.scan_kind = MODEL
-        self._model_run += 1
+        self._start(MODEL)
         self._model_done, self._model_total = 0, len(columns)
         s.scan_finished = False
         self.triage.scan_progress(0, len(columns), False, None, model=True)
-        self.model_scan(columns, self._model_run)
+        self.model_scan(columns, self._run)
         return None
 
     @work(thread=True, exclusive=True, group="scan", exit_on_error=False)
@@ -154,7 +196,7 @@ class ReviewApp(App[None]):
         worker = get_current_worker()
         s = self.session
         basis = s.model_basis()  # reads covariates from the data: off the UI thread
-        self.call_from_thread(self._model_started, basis, run)
+        self.post_message(RescoreStarted(basis, run))
         data = s.dataset
         results = self.scanner(
             columns, data.raw_values, data.outcome.y, s.settings, adjust=s.adjustment(basis)
@@ -163,29 +205,45 @@ class ReviewApp(App[None]):
             for result in results:
                 if worker.is_cancelled:
                     return
-                self.call_from_thread(self._rescored, result, basis, run)
+                self.post_message(ColumnRescored(result, basis, run))
         finally:
             close = getattr(results, "close", None)
             if close is not None:
                 close()  # stops the engine's workers at once when the re-score is dropped
-        self.call_from_thread(self._rescored, None, basis, run)
+        self.post_message(RescoreDone(basis, run))
 
-    def _model_started(self, basis: Basis, run: int) -> None:
-        if run == self._model_run:
-            self.session.model = basis.covariates
+    @on(RescoreStarted)
+    def _model_started(self, message: RescoreStarted) -> None:
+        if message.run == self._run:
+            self.session.model = message.basis.covariates
 
-    def _rescored(self, result: ColumnScan | None, basis: Basis, run: int) -> None:
-        if run != self._model_run:
-            return  # a result already on its way when the re-score was stopped
-        s = self.session
-        finished = result is None
-        if result is not None:
-            s.rescored(result, basis)
+    @on(ColumnRescored)
+    def _rescored(self, message: ColumnRescored) -> None:
+        if message.run == self._run:  # not a result on its way when the re-score stopped
+            self.session.rescored(message.result, message.basis)
             self._model_done += 1
+            self._model_results(False)
+
+    @on(RescoreDone)
+    def _rescore_done(self, message: RescoreDone) -> None:
+        if message.run == self._run:
+            self._open = False
+            self._model_results(True)
+
+    def _model_results(self, finished: bool) -> None:
+        s = self.session
         s.ranked = rank(s.ranked)
         s.scan_finished = finished
         self.triage.scan_progress(self._model_done, self._model_total, finished, None, model=True)
         self._scores_changed()
+
+    def action_first_scores(self) -> None:
+        """Back to the first scan's scores."""
+        why_not = self.first_scores()
+        if why_not is not None:
+            tell(self, why_not, severity="warning")
+            return
+        tell(self, "first scan's scores shown", timeout=3)
 
     def first_scores(self) -> str | None:
         """Return to the first scan's scores (stopping a working-model re-score); returns
@@ -196,10 +254,10 @@ class ReviewApp(App[None]):
         if s.model is None and not s.scored_with and not self.scanning():
             return "the first scan's scores are already shown"
         self.workers.cancel_group(self, "scan")
-        self._model_run += 1
+        self._start(FIRST)  # results of the stopped re-score still on their way are ignored
+        self._open = False
         s.first_scores()
         s.scan_finished = True
-        self.scan_kind = FIRST
         total = len(s.columns)
         self.triage.scan_progress(len(s.ranked), total, True, None)
         self._scores_changed()
@@ -209,7 +267,7 @@ class ReviewApp(App[None]):
         """Inspection screens follow the basis of the score they show."""
         for screen in self.screen_stack:
             if isinstance(screen, InspectScreen):
-                screen.scores_changed()
+                screen.post_message(ScoresChanged())
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         if event.worker.group == "scan" and event.state == WorkerState.ERROR:
@@ -217,6 +275,7 @@ class ReviewApp(App[None]):
             problem = f"{type(error).__name__}: {error}"
             if isinstance(error, InputProblem):
                 problem = str(error)  # the intake's one-line message says it all
+            self._open = False
             if self.scan_kind == MODEL:
                 # Columns re-scored so far keep their new scores (each row says which).
                 self.session.scan_finished = True

@@ -2,8 +2,8 @@
 
 The inspection screen asks for a column's fits under some groups, knots and hand-entered
 cut points, with the covariates and weights of the column's score (its ``Basis``); a worker
-thread computes them with the engine and the result is cached, so returning to a column (or
-to a setting seen before) is instant.
+thread has the engine (``fit_column``) compute them and the result is cached here, so
+returning to a column (or to a setting seen before) is instant. Nothing is fitted here.
 """
 
 from __future__ import annotations
@@ -13,24 +13,13 @@ from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass, field
 
-import numpy as np
-
-from tui.app.adjusting import Basis
+from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
-from tui.engine.compare import ComparisonTable, compare_forms, fit_candidate
+from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
-from tui.engine.forms.base import Candidate
-from tui.engine.forms.hinge import HingeCandidate
-from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.forms.linear import LinearCandidate
-from tui.engine.forms.registry import default_candidates
-from tui.engine.groups import LogitGroup, logit_groups
 from tui.engine.scan import ScanSettings, reduce_for_scan
-from tui.engine.smoother import smoothed_log_odds
 from tui.intake.dataset import ColumnarDataset, Dataset
 
-TAIL_SHARE = 0.05
-"""The tails named on the screen are the quantiles at this share and one minus it."""
 ROW_LEVEL_KEPT = 6
 """Adjusted fits keep every row (with its covariates): only this many are kept, the most
 recently used, so a long review of a large file does not fill the memory."""
@@ -53,39 +42,22 @@ class FitRequest:
     basis: Basis = field(default_factory=Basis)
     """Covariates and weights in every fit (those of the column's score)."""
 
-    def by_hand(self) -> list[Candidate]:
-        """The candidates made from hand-entered numbers."""
-        hand: list[Candidate] = [HingeCandidate(knot=k) for k in self.hinges]
-        return hand + [IndicatorCandidate(cut=c) for c in self.cuts]
-
-    def candidates(self) -> list[Candidate]:
-        """The engine's default candidates, then the hand-entered ones."""
-        return default_candidates(self.groups, self.knots) + self.by_hand()
+    @property
+    def wanted(self) -> CandidateSet:
+        """The engine's candidate set of this request."""
+        return CandidateSet(self.groups, self.knots, self.cuts, self.hinges)
 
     def hand_labels(self) -> set[str]:
         """Labels of the candidates entered by hand."""
-        return {c.label for c in self.by_hand()}
+        return self.wanted.hand_labels()
 
 
-@dataclass(frozen=True)
-class ColumnFits:
-    """Everything the inspection screen draws for one request."""
+@dataclass(frozen=True, kw_only=True)
+class ColumnFits(Fitted):
+    """The engine's fits of one request, with the request they answer."""
 
     request: FitRequest
     """What was asked."""
-    counts: ReducedCounts
-    """The column reduced to counts per distinct value (one per row when adjusted)."""
-    groups: tuple[LogitGroup, ...]
-    """Empirical logits of the quantile groups."""
-    table: ComparisonTable | None
-    """Every candidate fitted; None when the column cannot be fitted."""
-    tails: tuple[float, float] | None
-    """The ``TAIL_SHARE`` and ``1 - TAIL_SHARE`` quantiles of x (percentiles: a lumpy
-    column may hold far more than that share of its rows at either value)."""
-    problem: str | None = None
-    """Why the table is missing or holds the linear form only."""
-    smoother: tuple[np.ndarray, np.ndarray] | None = None
-    """LOWESS of the outcome on x, on the log-odds scale (x, log-odds); None when absent."""
 
 
 class FitCache:
@@ -163,27 +135,5 @@ def _keep_recent(kept: OrderedDict, key: object, value: object) -> None:
 
 
 def _compute(request: FitRequest, counts: ReducedCounts) -> ColumnFits:
-    if counts.distinct == 0:
-        return ColumnFits(request, counts, (), None, None, "no finite values")
-    groups = tuple(logit_groups(counts, request.groups))
-    smoother = smoothed_log_odds(counts)
-    low, high = (float(v) for v in counts.quantile([TAIL_SHARE, 1 - TAIL_SHARE]))
-    tails = (low, high)
-    events, rows = counts.total_events, counts.rows
-    if events == 0 or events == rows:
-        problem = "every row has the same outcome: no form can be fitted"
-        return ColumnFits(request, counts, groups, None, tails, problem, smoother)
-    if counts.distinct_values <= 2:
-        # Two values (or one) hold no curve: only the linear form applies.
-        linear = ComparisonTable((fit_candidate(LinearCandidate(), counts),), None)
-        problem = (
-            "one value only: nothing to compare; set it aside (x)"
-            if counts.distinct_values == 1
-            else "two values only: a straight line joins them, so only linear applies"
-        )
-        return ColumnFits(request, counts, groups, linear, tails, problem, smoother)
-    with np.errstate(all="ignore"):
-        table = compare_forms(
-            counts, request.candidates(), groups=request.groups, knots=request.knots
-        )
-    return ColumnFits(request, counts, groups, table, tails, None, smoother)
+    fitted = fit_column(counts, request.wanted)
+    return ColumnFits(**vars(fitted), request=request)

@@ -1,56 +1,46 @@
-"""What one review holds: the data, the scan results so far, and the recoding log on disk.
-
-Every decision goes through ``ReviewSession`` and is saved before it counts: the log in
-memory changes only after the file on disk has been written, so what the screens show is
-what a dropped connection would leave behind.
+"""What one review holds: the data, the scan results so far, the designs of the fits, and
+the recoding log (through the UI-free ``DecisionBook``, which saves each change before it
+counts). The screens' own state (list order, typed numbers, draft notes) is a
+``ReviewView`` they write; nothing here imports a screen library.
 """
 
 from __future__ import annotations
 
-import math
-import os
-from collections.abc import Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
 
-from tui.app.adjusting import Adjustments, Basis
-from tui.app.logfile import load_log, save_log
+from tui.app.basis import Adjustments, Basis
+from tui.app.view_state import ReviewView
 from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit
-from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
 from tui.intake.weights import FREQUENCY
-from tui.paths import same_file
-from tui.problems import InputProblem
+from tui.recodings.decisions import (
+    KEPT_LINEAR,
+    SET_ASIDE,
+    UNDECIDED,
+    DecisionBook,
+    Design,
+    LogNotSaved,
+    check_log_place,
+    default_log_path,
+    judged_evidence,
+    open_log,
+)
+from tui.recodings.evidence import DataFingerprint, Evidence
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 
-UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"
-
-
-class LogNotSaved(Exception):
-    """The log file could not be written; the decision was not recorded."""
-
-
-def default_log_path(data: Path) -> Path:
-    """``<data stem>.recodings.json`` in the working folder."""
-    return Path(f"{data.stem}.recodings.json")
-
-
-def _plain(value: Any) -> Any:
-    """A JSON-safe scalar: numpy numbers become Python ones, NaN and inf become None."""
-    if isinstance(value, bool) or value is None or isinstance(value, str):
-        return value
-    if isinstance(value, int | float) or hasattr(value, "item"):
-        number = value.item() if hasattr(value, "item") else value
-        if isinstance(number, float) and not math.isfinite(number):
-            return None
-        return number
-    if isinstance(value, list | tuple):
-        return [_plain(v) for v in value]
-    return value
+__all__ = [
+    "KEPT_LINEAR",
+    "SET_ASIDE",
+    "UNDECIDED",
+    "LogNotSaved",
+    "ReviewSession",
+    "default_log_path",
+    "open_session",
+]
 
 
 @dataclass
@@ -59,10 +49,8 @@ class ReviewSession:
 
     dataset: Dataset | ColumnarDataset
     """The training data (rows with an outcome)."""
-    log: RecodingLog
-    """The decisions as saved on disk."""
-    log_path: Path
-    """Where the log is saved."""
+    book: DecisionBook
+    """The recoding log and every change to it (saved before it counts)."""
     settings: ScanSettings = field(default_factory=ScanSettings)
     """Groups and knots of the scan (and the starting ones of the inspection)."""
     source_warning: str | None = None
@@ -71,14 +59,6 @@ class ReviewSession:
     """Scan results so far, most non-linear first."""
     scan_finished: bool = False
     """All columns scanned: q-values and shape hints are final."""
-    drafts: dict[str, str] = field(default_factory=dict)
-    """Notes typed for columns not yet decided."""
-    order: list[str] = field(default_factory=list)
-    """Columns in the order the list screen shows them (for previous / next)."""
-    hand_cuts: dict[str, tuple[float, ...]] = field(default_factory=dict)
-    """Indicator cut points typed for each column."""
-    hand_hinges: dict[str, tuple[float, ...]] = field(default_factory=dict)
-    """Hinge knots typed for each column."""
     adjust: tuple[str, ...] = ()
     """Covariates asked for on the command line (``--adjust``): in every fit."""
     weight: str | None = None
@@ -94,6 +74,9 @@ class ReviewSession:
     data_sha256: str | None = None
     """sha256 of the data file reviewed: each decision's evidence names the data it was
     judged on, since a log reused on another extract keeps its first ``source``."""
+    view: ReviewView = field(default_factory=ReviewView)
+    """The screens' state (list order, typed numbers, draft notes): written by the
+    screens only, kept here so every screen of the review sees the same one."""
 
     def __post_init__(self) -> None:
         self._profiles: dict[str, ColumnProfile] = {p.name: p for p in self.dataset.numeric}
@@ -101,7 +84,22 @@ class ReviewSession:
             self.dataset, self.dataset.outcome.column, self.weight, self.weight_kind
         )
         # The first scan's covariates enter in the forms the log held at the start.
-        self.base: Basis = self.adjustments.basis(self.adjust, self._forms())
+        self.base: Basis = self.adjustments.basis(self.adjust, self.book.forms())
+
+    @property
+    def log(self) -> RecodingLog:
+        """The decisions as saved on disk."""
+        return self.book.log
+
+    @property
+    def log_path(self) -> Path:
+        """Where the log is saved."""
+        return self.book.path
+
+    @property
+    def order(self) -> list[str]:
+        """Columns in the order the list screen shows them (the screens' view state)."""
+        return self.view.order
 
     # --- what is known of a column -------------------------------------------------------
 
@@ -120,14 +118,11 @@ class ReviewSession:
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
-        if self.log.is_set_aside(column):
-            return SET_ASIDE
-        decision = self.log.decision_for(column)
-        if decision is None:
-            return UNDECIDED
-        if decision.recoding.kind == "linear" and decision.recoding.clip is None:
-            return KEPT_LINEAR
-        return decision.recoding.describe()
+        return self.book.decision_word(column)
+
+    def decision_words(self) -> dict[str, str]:
+        """``decision_word`` of every column to review."""
+        return {c: self.book.decision_word(c) for c in self.columns}
 
     def decision_phrase(self, column: str) -> str:
         """``undecided``, or ``decided: <what>``, for a line of text."""
@@ -142,22 +137,9 @@ class ReviewSession:
         """Columns of this data with a decision or set aside."""
         return sum(1 for c in self.columns if self.is_decided(c))
 
-    def note_of(self, column: str) -> str:
-        """The note typed for the column (draft first, then the saved one)."""
-        if column in self.drafts:
-            return self.drafts[column]
-        decision = self.log.decision_for(column)
-        if decision is not None:
-            return decision.note
-        aside = next((s for s in self.log.set_aside if s.column == column), None)
-        return aside.note if aside is not None else ""
-
-    def neighbour(self, column: str, step: int) -> str | None:
-        """The column ``step`` places away in the list's order (None past either end)."""
-        if column not in self.order:
-            return self.order[0] if self.order else None
-        i = self.order.index(column) + step
-        return self.order[i] if 0 <= i < len(self.order) else None
+    def saved_note(self, column: str) -> str:
+        """The note the log holds for the column ("" when none)."""
+        return self.book.saved_note(column)
 
     # --- adjustment: what each column's fits carry ---------------------------------------
 
@@ -205,7 +187,7 @@ class ReviewSession:
 
     def model_basis(self) -> Basis:
         """The working model built now, in the forms the log holds (raises InputProblem)."""
-        return self.adjustments.basis(self.working_model(), self._forms())
+        return self.adjustments.basis(self.working_model(), self.book.forms())
 
     def undecided(self) -> list[str]:
         """Columns with nothing in the log, in file order."""
@@ -222,10 +204,7 @@ class ReviewSession:
         self.scored_with.clear()
         self.model = None
 
-    def _forms(self) -> dict[str, Recoding]:
-        return {d.column: d.recoding for d in self.log.decisions}
-
-    # --- decisions (each saved before it counts) -----------------------------------------
+    # --- decisions: the book saves each before it counts ---------------------------------
 
     def accept(
         self,
@@ -235,60 +214,37 @@ class ReviewSession:
         knots: int,
         by_hand: bool = False,
         basis: Basis | None = None,
+        note: str | None = None,
     ) -> Decision:
         """Record the form in ``row`` for ``column`` and save the log. ``basis`` is what the
-        row was fitted with (default: the basis of the column's score)."""
+        row was fitted with (default: the basis of the column's score); ``note`` defaults
+        to the one the log holds. Raises LogNotSaved."""
         if row.recoding is None:
             raise ValueError(f"{row.label} has no learned recoding to accept")
         profile = self.profile_of(column)
         if profile.minimum is None or profile.maximum is None:
             raise ValueError(f"{column} has no finite values")
-        taken = {str(c) for c in self.dataset.column_names}
-        taken |= self.log.without(column).output_names()
-        decision = Decision.make(
+        return self.book.accept(
             column,
             row.recoding,
             (profile.minimum, profile.maximum),
-            note=self.note_of(column),
-            evidence=self.evidence(column, row, groups, knots, by_hand, basis),
-            taken=taken,
+            self.saved_note(column) if note is None else note,
+            self.evidence(column, row, groups, knots, by_hand, basis),
+            {str(c) for c in self.dataset.column_names},
         )
-        self._commit(self.log.with_decision(decision))
-        self.drafts.pop(column, None)
-        return decision
 
-    def set_aside(self, column: str) -> SetAside:
+    def set_aside(self, column: str, note: str | None = None) -> SetAside:
         """Record that the column is not to be used, and save the log."""
-        entry = SetAside(column, note=self.note_of(column))
-        self._commit(self.log.with_set_aside(entry))
-        self.drafts.pop(column, None)
-        return entry
+        return self.book.set_aside(column, self.saved_note(column) if note is None else note)
 
-    def remove(self, column: str) -> None:
-        """Remove whatever the log holds for the column, and save."""
-        note = self.note_of(column)
-        self._commit(self.log.without(column))
-        if note:
-            self.drafts[column] = note  # the reason is kept for the next decision
+    def remove(self, column: str) -> str:
+        """Remove whatever the log holds for the column and save; returns its note."""
+        return self.book.remove(column)
 
     def set_note(self, column: str, note: str) -> bool:
-        """Change the column's note; True when it was saved (the column is decided)."""
-        decision = self.log.decision_for(column)
-        if decision is not None:
-            changed = replace(decision, note=note)
-            decisions = tuple(changed if d.column == column else d for d in self.log.decisions)
-            self._commit(replace(self.log, decisions=decisions))
-            self.drafts.pop(column, None)
-            return True
-        if self.log.is_set_aside(column):
-            entries = tuple(
-                replace(s, note=note) if s.column == column else s for s in self.log.set_aside
-            )
-            self._commit(replace(self.log, set_aside=entries))
-            self.drafts.pop(column, None)
-            return True
-        self.drafts[column] = note
-        return False
+        """Change the note of a decided column and save; False when nothing is recorded
+        for it (the screens keep the note as a draft)."""
+        return self.book.set_note(column, note)
 
     def evidence(
         self,
@@ -298,46 +254,20 @@ class ReviewSession:
         knots: int,
         by_hand: bool,
         basis: Basis | None = None,
-    ) -> dict[str, Any]:
+    ) -> Evidence:
         """What the screens showed when the form was accepted, and the covariates and
         weights it was judged with (evidence only: replay never reads them)."""
         basis = self.basis_of(column) if basis is None else basis
         # The score is evidence only when it came from the same design as the row.
         scan = self.scan_of(column) if self.basis_of(column) == basis else None
-        final = self.scan_finished
-        evidence: Mapping[str, Any] = {
-            "form": row.label,
-            "df": row.df,
-            "deviance": row.deviance,
-            "aic": row.aic,
-            "delta_aic": row.delta_aic,
-            "lr_p": row.lr_p,
-            "notes": list(row.notes),
-            "by_hand": by_hand,
-            "groups": groups,
-            "knots": knots,
-            "score": scan.score if scan else None,
-            "score_df": scan.df if scan else None,
-            "score_p": scan.p_value if scan else None,
-            "q_value": scan.q_value if scan and final else None,
-            "shape": scan.shape if scan and final else None,
-            "adjusted_for": list(self.adjusted_for(column, basis)),
-            "adjustment": self.describe_basis(column, basis),
-            "weight": basis.weight,
-            "weight_kind": basis.weight_kind,
-            "data": {"name": self.dataset.path.name, "sha256": self.data_sha256},
-        }
-        return {key: _plain(value) for key, value in evidence.items()}
-
-    def _commit(self, log: RecodingLog) -> None:
-        try:
-            save_log(log, self.log_path)
-        except InputProblem as problem:  # the log module's one error type (names the file)
-            raise LogNotSaved(str(problem)) from problem
-        except OSError as problem:
-            reason = problem.strerror or str(problem)
-            raise LogNotSaved(f"cannot write {self.log_path}: {reason}") from problem
-        self.log = log
+        design = Design(
+            self.adjusted_for(column, basis),
+            self.describe_basis(column, basis),
+            basis.weight,
+            basis.weight_kind,
+        )
+        data = DataFingerprint(self.dataset.path.name, self.data_sha256)
+        return judged_evidence(row, groups, knots, by_hand, scan, self.scan_finished, design, data)
 
 
 def open_session(
@@ -355,44 +285,17 @@ def open_session(
     weights every fit carries. Raises InputProblem."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
-    if data.exists() and same_file(path, data):
-        raise InputProblem(f"--log {path} is the data file; choose another name for the log")
+    check_log_place(path, data)
     dataset = open_dataset(data, outcome, event, exclude)
     if not [c for c in dataset.columns if c != weight]:
         raise InputProblem(f"{data} has no numeric columns to review besides '{outcome}'")
-    folder = path.parent if str(path.parent) else Path(".")
-    if path.exists() and not path.is_file():
-        raise InputProblem(f"--log {path} is not a file")
-    if not folder.is_dir():
-        raise InputProblem(f"cannot keep the log at {path}: folder {folder} does not exist")
-    if not os.access(folder, os.W_OK):
-        raise InputProblem(f"cannot keep the log at {path}: folder {folder} is not writable")
     sha = file_sha256(data)
     coded = dataset.outcome
     source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
-    warning = None
-    if path.exists():
-        log = load_log(path)
-        if log.outcome_column != coded.column:
-            raise InputProblem(
-                f"{path} holds decisions for outcome '{log.outcome_column}', not '{coded.column}'"
-            )
-        if str(log.event) != str(coded.event):
-            raise InputProblem(
-                f"{path} counts '{log.event}' as the event, but this data counts "
-                f"'{coded.event}'; pass --event {log.event}"
-            )
-        if log.source.sha256 != sha:
-            warning = (
-                f"{path.name} was written for {log.source.name} with different contents "
-                f"(its sha256 differs from {data.name}); check its decisions"
-            )
-    else:
-        log = RecodingLog(outcome_column=coded.column, event=_plain(coded.event), source=source)
+    log, warning = open_log(path, coded.column, coded.event, source)
     return ReviewSession(
         dataset,
-        log,
-        path,
+        DecisionBook(log, path),
         settings or ScanSettings(),
         warning,
         adjust=tuple(adjust),

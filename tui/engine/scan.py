@@ -22,6 +22,7 @@ from tui.engine.counts import (
     reduce_column,
     rows_with_covariates,
 )
+from tui.engine.fittable import one_outcome_class, too_few_values
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
@@ -158,11 +159,7 @@ def scan_counts(
         maximum=maximum,
         exact=counts.exact,
     )
-    if (
-        counts.distinct_values <= 2
-        or counts.total_events == 0
-        or counts.total_events == counts.rows
-    ):
+    if too_few_values(counts) or one_outcome_class(counts):
         return base, None
     # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
     # hinge, indicator); opening the column fits them all.

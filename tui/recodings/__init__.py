@@ -24,7 +24,7 @@ from tui.recodings.replay import RangeExcess, apply_to_frame, check_columns, ran
 from tui.recodings.save import dumps, save
 from tui.recodings.sql import DIALECTS, to_sql
 
-# The names the review app calls (tui/app/logfile.py).
+# Older names of load and save, kept for scripts that use them.
 load_log = load
 save_log = save
 

@@ -20,6 +20,7 @@ from tui import __version__
 from tui.engine.forms.base import RecodingError
 from tui.engine.forms.registry import make_recoding
 from tui.recodings.errors import EntryProblem
+from tui.recodings.evidence import Evidence
 from tui.recodings.model import (
     FORMAT,
     FORMAT_VERSION,
@@ -70,7 +71,7 @@ def _decision_entry(decision: Decision, index: int) -> dict[str, Any]:
         decided_at=decision.decided_at,
         # Evidence is a record of what was shown; a number that could not be computed
         # (NaN) is written as null rather than refused.
-        evidence=plain(dict(decision.evidence), f"{where}.evidence", missing_as_null=True),
+        evidence=plain(decision.evidence.to_json(), f"{where}.evidence", missing_as_null=True),
     )
     return entry
 
@@ -156,7 +157,7 @@ def _decision(item: Mapping[str, Any], index: int) -> Decision:
         range=(low, high),
         note=item["note"],
         decided_at=_timestamp(item["decided_at"], f"{where}.decided_at"),
-        evidence=item["evidence"],
+        evidence=Evidence.from_json(item["evidence"], f"{where}.evidence"),
     )
 
 

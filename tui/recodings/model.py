@@ -9,6 +9,7 @@ from typing import Any
 
 from tui import __version__
 from tui.engine.forms.base import Recoding
+from tui.recodings.evidence import NOTHING, Evidence
 
 FORMAT = "bendwise-recodings"
 FORMAT_VERSION = 1
@@ -35,8 +36,8 @@ class Decision:
     """The analyst's reason."""
     decided_at: str = field(default_factory=now_iso)
     """When the decision was made (ISO 8601)."""
-    evidence: Mapping[str, Any] = field(default_factory=dict)
-    """What was shown when it was accepted (score, delta AIC, df, groups, knots...)."""
+    evidence: Evidence = NOTHING
+    """What was shown when it was accepted, and the design it was judged in."""
 
     @classmethod
     def make(
@@ -45,17 +46,22 @@ class Decision:
         recoding: Recoding,
         training_range: tuple[float, float],
         note: str = "",
-        evidence: Mapping[str, Any] | None = None,
+        evidence: Evidence | Mapping[str, Any] | None = None,
         taken: set[str] | frozenset[str] = frozenset(),
     ) -> Decision:
-        """A decision whose output names avoid the names in ``taken``."""
+        """A decision whose output names avoid the names in ``taken``; ``evidence`` given
+        as JSON values is read as a log entry's would be (raises EntryProblem)."""
+        if evidence is None:
+            evidence = NOTHING
+        elif not isinstance(evidence, Evidence):
+            evidence = Evidence.from_json(evidence)
         return cls(
             column=column,
             recoding=recoding,
             outputs=tuple(output_names(column, recoding, taken)),
             range=(float(training_range[0]), float(training_range[1])),
             note=note,
-            evidence=dict(evidence or {}),
+            evidence=evidence,
         )
 
 

@@ -5,14 +5,14 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
-from typing import Any
 
 import numpy as np
 
 from tui import __version__
 from tui.cautions import CAUTIONS
 from tui.engine.adjust import Adjustment, open_adjustment
-from tui.engine.compare import FormFit, compare_forms
+from tui.engine.column_fits import CandidateSet, fit_column
+from tui.engine.compare import FormFit
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
 from tui.engine.recorded import fit_recoding
@@ -21,6 +21,7 @@ from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
+from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
 from tui.report.words import params_in_words
@@ -80,7 +81,7 @@ class DecisionSection:
     outputs: tuple[str, ...]
     note: str
     decided_at: str
-    evidence: dict[str, Any]
+    evidence: Evidence
     forms: tuple[FormLine, ...]
     groups: tuple[GroupLine, ...]
     curve: Curve | None
@@ -139,15 +140,17 @@ def _section(
 ) -> DecisionSection:
     x = data.values(decision.column)
     plain = reduce_column(x, data.outcome.y)  # groups show rows, unweighted, unadjusted
-    groups_n = int(decision.evidence.get("groups", 4))
-    knots_n = int(decision.evidence.get("knots", 4))
+    # An entry that did not record them reads as the scan's defaults (see Evidence).
+    groups_n, knots_n = decision.evidence.groups, decision.evidence.knots
     settings = ScanSettings(groups=groups_n, knots=knots_n)
     counts = (
         plain
         if adjust is None
         else reduce_for_scan(x, data.outcome.y, settings, adjust, decision.column).counts
     )
-    table = compare_forms(counts, groups=groups_n, knots=knots_n)
+    table = fit_column(counts, CandidateSet(groups_n, knots_n), smooth=False).table
+    if table is None:  # no finite values, or one outcome class among the rows with one
+        raise InputProblem(f"{data.path.name}: '{decision.column}' cannot be fitted again")
     title = f"accepted: {decision.recoding.describe()}"
     chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
@@ -183,7 +186,7 @@ def _section(
         outputs=decision.outputs,
         note=decision.note,
         decided_at=decision.decided_at,
-        evidence=dict(decision.evidence),
+        evidence=decision.evidence,
         forms=tuple(forms),
         groups=tuple(lines),
         curve=curve,
@@ -201,7 +204,7 @@ def build_report(
 ) -> ReportContent:
     """Recompute the evidence for every decision in ``log`` from ``data``.
 
-    A decision judged with covariates (``evidence.adjusted_for``) is recomputed with the same
+    A decision judged with covariates (its evidence's ``adjusted_for``) is recomputed with the same
     covariates, each in its accepted form when the log holds one; ``weight`` weights every fit.
     """
     if min_cell < 1:
@@ -224,13 +227,13 @@ def build_report(
     )
 
     def adjustment_for(decision: Decision) -> Adjustment | None:
-        covariates = [str(c) for c in decision.evidence.get("adjusted_for", []) or []]
+        covariates = decision.evidence.adjusted_for
         return open_adjustment(data, log.outcome_column, covariates, weight, weight_kind, forms)
 
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
     sha = file_sha256(data.path)
-    adjust = sorted({str(a) for d in log.decisions for a in d.evidence.get("adjusted_for", [])})
-    judged = {str(d.evidence["weight"]) for d in log.decisions if d.evidence.get("weight")}
+    adjust = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
+    judged = {w for d in log.decisions if (w := d.evidence.weights.column)}
     weights = sorted(judged | ({f"{weight} ({weight_kind}), used here"} if weight else set()))
     y = data.outcome
     fingerprint = {

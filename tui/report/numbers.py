@@ -1,8 +1,9 @@
-"""Number formatting shared by the report renderers."""
+"""Number formatting shared by the report renderers, and the evidence in words."""
 
 from __future__ import annotations
 
 from tui.numbers_text import EN_DASH, number_text, p_text, value_text
+from tui.recodings.evidence import Evidence
 
 
 def fmt(value: float | None, digits: int = 2) -> str:
@@ -17,32 +18,33 @@ def fmt_x(value: float | None) -> str:
     return value_text(value, 4, dash=EN_DASH)
 
 
-EVIDENCE_SHOWN = (
-    ("form", "form"),
-    ("score", "spline score"),
-    ("score_df", "df"),
-    ("q_value", "q-value"),
-    ("delta_aic", "ΔAIC"),
-    ("groups", "groups"),
-    ("knots", "knots"),
-    ("adjusted_for", "adjusted for"),
-    ("weight", "weight"),
-    ("weight_kind", "weight kind"),
-)
+def _shown(evidence: Evidence) -> list[tuple[str, object]]:
+    """(name, value) of the evidence a reader needs, in the report's order; groups and
+    knots only when the entry recorded them (otherwise they are the documented default,
+    not something shown at decision time)."""
+    score, row, weights = evidence.score, evidence.row, evidence.weights
+    groups = evidence.groups if evidence.holds("groups") else None
+    knots = evidence.knots if evidence.holds("knots") else None
+    return [
+        ("form", row.form),
+        ("spline score", score.statistic),
+        ("df", score.df),
+        ("q-value", fmt_p(score.q_value) if score.q_value is not None else None),
+        ("ΔAIC", row.delta_aic),
+        ("groups", groups),
+        ("knots", knots),
+        ("adjusted for", ", ".join(evidence.adjusted_for)),
+        ("weight", weights.column),
+        ("weight kind", weights.kind),
+    ]
 
 
-def evidence_words(evidence: dict) -> str:
+def evidence_words(evidence: Evidence) -> str:
     """The evidence a decision recorded, the parts a reader needs, rounded."""
     parts = []
-    for key, name in EVIDENCE_SHOWN:
-        value = evidence.get(key)
-        if value is None or value == [] or value == "":
+    for name, value in _shown(evidence):
+        if value is None or value == "":
             continue
-        if isinstance(value, float):
-            text = fmt_p(value) if key == "q_value" else f"{value:.2f}"
-        elif isinstance(value, list | tuple):
-            text = ", ".join(str(v) for v in value)
-        else:
-            text = str(value)
+        text = f"{value:.2f}" if isinstance(value, float) else str(value)
         parts.append(f"{name} {text}")
     return "; ".join(parts)

@@ -119,20 +119,20 @@ class DecisionsScreen(Screen[str | None]):
             return
         decision = self.session.log.decision_for(column)
         if decision is None:
-            detail.update(f"{column}: set aside · note: {self.session.note_of(column) or '-'}")
+            detail.update(f"{column}: set aside · note: {self.session.saved_note(column) or '-'}")
             return
         ev = decision.evidence
         facts = [f"{column}: {decision.recoding.describe()}"]
-        if ev.get("score") is not None:
-            facts.append(f"score {ev['score']:.1f}")
-        if ev.get("delta_aic") is not None:
-            facts.append(f"ΔAIC {ev['delta_aic']:.1f}")
-        if ev.get("df") is not None:
-            facts.append(f"{ev['df']} df")
-        if ev.get("adjusted_for"):
-            facts.append("judged adjusted for " + ", ".join(str(c) for c in ev["adjusted_for"]))
-        if ev.get("weight"):
-            facts.append(f"{ev.get('weight_kind') or ''} weights {ev['weight']}".strip())
+        if ev.score.statistic is not None:
+            facts.append(f"score {ev.score.statistic:.1f}")
+        if ev.row.delta_aic is not None:
+            facts.append(f"ΔAIC {ev.row.delta_aic:.1f}")
+        if ev.row.df is not None:
+            facts.append(f"{ev.row.df} df")
+        if ev.adjusted_for:
+            facts.append("judged adjusted for " + ", ".join(ev.adjusted_for))
+        if ev.weights.column:
+            facts.append(f"{ev.weights.kind or ''} weights {ev.weights.column}".strip())
         facts.append(f"range {decision.range[0]:.6g} to {decision.range[1]:.6g}")
         facts.append(f"note: {decision.note or '-'}")
         detail.update(" · ".join(facts))
@@ -168,10 +168,12 @@ class DecisionsScreen(Screen[str | None]):
         if not yes:
             return
         try:
-            self.session.remove(column)
+            note = self.session.remove(column)
         except LogNotSaved as problem:
             not_saved(self, problem)
             return
+        if note:
+            self.session.view.drafts[column] = note  # the reason is kept for the next decision
         tell(self, f"{column} removed from the log (saved)", timeout=3)
         self.redraw()
 

@@ -37,6 +37,12 @@ def key_text(display: Callable[[Binding], str], binding: Binding) -> str:
     return " / ".join(display(Binding(k, binding.action)) for k in keys)
 
 
+def _listed_twice(binding: Binding, actions: set[str]) -> bool:
+    """An ``app.``-prefixed key whose app action is also listed unprefixed."""
+    action = binding.action
+    return action.startswith("app.") and action.removeprefix("app.") in actions
+
+
 class HelpView(ModalScreen[None]):
     """Scrollable list of keys by screen; Escape, q or ? closes it."""
 
@@ -52,6 +58,9 @@ class HelpView(ModalScreen[None]):
         self._sections = sections
 
     def compose(self) -> ComposeResult:
+        # A screen's key for an app action that has its own line (under "Everywhere")
+        # is not listed twice; app actions only a screen offers are listed there.
+        own = {b.action for _, bindings in self._sections for b in bindings}
         with VerticalScroll(id="box"):
             yield Line("Keys", id="title")
             for heading, bindings in self._sections:
@@ -59,7 +68,7 @@ class HelpView(ModalScreen[None]):
                 lines = [
                     f"  {key_text(self.app.get_key_display, b):<16} {binding_text(b)}"
                     for b in bindings
-                    if b.description and not b.action.startswith("app.")
+                    if b.description and not _listed_twice(b, own)
                 ]
                 yield Line("\n".join(lines), classes="keys")
             yield Line("How to read the screens", classes="heading")

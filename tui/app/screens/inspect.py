@@ -5,21 +5,24 @@ from __future__ import annotations
 import os
 from collections.abc import Callable
 
-from textual import work
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
-from tui.app.fit_cache import TAIL_SHARE, ColumnFits, FitCache, FitRequest
+from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
+from tui.app.messages import FitsReady, ScoresChanged
 from tui.app.notices import not_saved, tell
+from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
-from tui.app.text import number_text, p_text, path_text, value_text
+from tui.app.text import p_text, path_text
+from tui.app.view_state import ReviewView
 from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
@@ -39,8 +42,6 @@ GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
 CUT_TIP = "Type a cut point for an indicator"
 HINGE_TIP = "Type the knot of a hinge"
-TAIL_PERCENT = round(TAIL_SHARE * 100)
-"""The tails are shown as the TAIL_PERCENT-th and (100 - TAIL_PERCENT)-th percentiles."""
 SHORT_BELOW = 32
 """Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
 
@@ -75,10 +76,11 @@ class InspectScreen(Screen[str]):
     def __init__(self, session: ReviewSession, cache: FitCache, column: str) -> None:
         super().__init__()
         self.session, self.cache, self.column = session, cache, column
+        self.view: ReviewView = session.view  # the list's order, typed numbers, drafts
         self.groups = session.settings.groups
         self.knots = session.settings.knots
         self.fits: ColumnFits | None = None
-        self._want_label: str | None = None
+        self._want_key: str | None = None
 
     def compose(self) -> ComposeResult:
         yield Line("", id="heading")
@@ -102,16 +104,16 @@ class InspectScreen(Screen[str]):
 
     def request(self) -> FitRequest:
         """The fits wanted now."""
-        s = self.session
         return FitRequest(
             self.column,
             self.groups,
             self.knots,
-            s.hand_cuts.get(self.column, ()),
-            s.hand_hinges.get(self.column, ()),
-            s.basis_of(self.column),
+            self.view.hand_cuts.get(self.column, ()),
+            self.view.hand_hinges.get(self.column, ()),
+            self.session.basis_of(self.column),
         )
 
+    @on(ScoresChanged)
     def scores_changed(self) -> None:
         """The session's scores changed (a working-model re-score, or back to the first
         scan): when this column's score now comes from another design, refit with it."""
@@ -123,16 +125,16 @@ class InspectScreen(Screen[str]):
         """Switch to ``column``: fits from the cache, or computed in a worker."""
         self.column = column
         self.fits = None
-        self._want_label = None  # a new column starts on its first form
+        self._want_key = None  # a new column starts on its first form
         self.query_one(FormsTable).show_rows([])
         self._refresh_heading()
         self._load()
 
-    def _load(self, focus_label: str | None = None) -> None:
-        """Show the fits of the current request; ``focus_label`` is the row to highlight
+    def _load(self, focus_key: str | None = None) -> None:
+        """Show the fits of the current request; ``focus_key`` is the row to highlight
         once they are in (kept until then, however many requests come in between)."""
-        if focus_label is not None:
-            self._want_label = focus_label
+        if focus_key is not None:
+            self._want_key = focus_key
         request = self.request()
         cached = self.cache.cached(request)
         if cached is not None:
@@ -150,11 +152,12 @@ class InspectScreen(Screen[str]):
         """Fit every candidate off the UI thread; the cache keeps the result."""
         fits = self.cache.fits(request)
         if not get_current_worker().is_cancelled:
-            self.app.call_from_thread(self._arrived, fits)
+            self.post_message(FitsReady(fits))
 
-    def _arrived(self, fits: ColumnFits) -> None:
-        if fits.request == self.request():  # a stale result stays in the cache only
-            self._show_fits(fits)
+    @on(FitsReady)
+    def _arrived(self, message: FitsReady) -> None:
+        if message.fits.request == self.request():  # a stale result stays in the cache only
+            self._show_fits(message.fits)
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         if event.worker.group == "fits" and event.state == WorkerState.ERROR:
@@ -167,9 +170,9 @@ class InspectScreen(Screen[str]):
         self.fits = fits
         table = self.query_one(FormsTable)
         table.show(fits, self._accepted())
-        if self._want_label is not None:
-            table.move_to_key(self._want_label)
-            self._want_label = None
+        if self._want_key is not None:
+            table.move_to_key(self._want_key)
+            self._want_key = None
         self._refresh_heading()
         self._refresh_row()
 
@@ -184,59 +187,33 @@ class InspectScreen(Screen[str]):
         key = self.query_one(FormsTable).highlighted_key()
         return self.fits.table.row(key) if key is not None else None
 
+    def note(self) -> str:
+        """The column's note: the draft typed, else the one saved."""
+        return self.view.note(self.column, self.session.saved_note(self.column))
+
     def _refresh_heading(self) -> None:
-        s = self.session
-        order = s.order if self.column in s.order else s.columns
-        where = f"{order.index(self.column) + 1} of {len(order)}" if self.column in order else ""
-        decided = s.decision_phrase(self.column)
-        self.query_one("#heading", Line).update(f"{self.column} · {where} · {decided}")
-        scan = s.scan_of(self.column)
-        parts = []
-        if scan is not None and scan.score is not None:
-            score = f"score {number_text(scan.score)} on {scan.df} df"
-            if s.scan_finished:
-                parts.append(f"{score} · q {p_text(scan.q_value)} · {scan.shape or '-'}")
-            else:
-                parts.append(f"{score} · q and shape when the scan ends")
-        elif scan is not None:
-            parts.append(f"not scored ({', '.join(scan.flags) or 'see flags'})")
-        if self.fits is not None and self.fits.tails is not None:
-            # Percentiles, not shares of rows: a lumpy column can hold far more than 5%
-            # of its rows at the 5th percentile.
-            low, high = (value_text(v) for v in self.fits.tails)
-            parts.append(f"p{TAIL_PERCENT} {low} · p{100 - TAIL_PERCENT} {high}")
-        self.query_one("#evidence", Line).update(" · ".join(parts))
-        self.query_one("#counts", Line).update(self._counts_text())
-        basis = s.basis_of(self.column)
+        s, column = self.session, self.column
+        order = self.view.order if column in self.view.order else s.columns
+        heading = heading_line(column, order, s.decision_phrase(column))
+        self.query_one("#heading", Line).update(heading)
+        scan = s.scan_of(column)
+        tails = self.fits.tails if self.fits is not None else None
+        self.query_one("#evidence", Line).update(score_line(scan, s.scan_finished, tails))
+        self.query_one("#counts", Line).update(counts_line(s.profile_of(column), scan))
+        basis = s.basis_of(column)
         adjusted = self.query_one("#adjusted", Line)
         adjusted.display = not basis.plain
         if not basis.plain:
             # Short terminals name the covariates only; taller ones say how each entered.
             short = self.has_class("-short")
-            words = s.describe_basis(self.column, basis, forms=not short)
-            if s.adjusted_for(self.column, basis) and not short:
+            words = s.describe_basis(column, basis, forms=not short)
+            if s.adjusted_for(column, basis) and not short:
                 words += " · curves drawn at the covariates' means"
             adjusted.update(words)
-        note = s.note_of(self.column)
+        note = self.note()
         self.query_one("#note", Line).update(f"note: {note}" if note else "")
         self.query_one("#note").display = bool(note)
-        self.query_one("#settings", Line).update(
-            f"g {self.groups} groups · s {self.knots} knots · c typed cut point · "
-            "h typed hinge knot · ! cautions"
-        )
-
-    def _counts_text(self) -> str:
-        """Values present, missing and distinct, and the scan's flags in words."""
-        s = self.session
-        profile = s.profile_of(self.column)
-        scan = s.scan_of(self.column)
-        flags = "when the scan reaches it"
-        if scan is not None:
-            flags = ", ".join(scan.flags) or "none"
-        return (
-            f"n {profile.n} · missing {profile.missing} · distinct {profile.distinct} · "
-            f"flags {flags}"
-        )
+        self.query_one("#settings", Line).update(settings_line(self.groups, self.knots))
 
     def _refresh_row(self) -> None:
         """Redraw the candidate curve, the legend and the notes for the highlighted row."""
@@ -296,7 +273,8 @@ class InspectScreen(Screen[str]):
         hand = row.label in fits.request.hand_labels()
         basis = fits.request.basis  # the design the row was fitted with
         column, groups, knots = self.column, self.groups, self.knots
-        self._decide(lambda: self.session.accept(column, row, groups, knots, hand, basis))
+        note = self.note()
+        self._decide(lambda: self.session.accept(column, row, groups, knots, hand, basis, note))
 
     def action_keep_linear(self) -> None:
         """Keep this column as a plain linear term."""
@@ -307,7 +285,8 @@ class InspectScreen(Screen[str]):
             return
         basis = fits.request.basis
         column, groups, knots = self.column, self.groups, self.knots
-        self._decide(lambda: self.session.accept(column, linear, groups, knots, False, basis))
+        note = self.note()
+        self._decide(lambda: self.session.accept(column, linear, groups, knots, False, basis, note))
 
     def _decide(self, record: Callable[[], Decision]) -> None:
         try:
@@ -315,6 +294,7 @@ class InspectScreen(Screen[str]):
         except LogNotSaved as problem:
             not_saved(self, problem)
             return
+        self.view.drafts.pop(self.column, None)  # the note is in the log now
         self._after_change()
         x = self.session.dataset.values(self.column)  # as replay reads it
         name = path_text(str(self.session.log_path), os.getcwd())
@@ -323,17 +303,18 @@ class InspectScreen(Screen[str]):
     def action_set_aside(self) -> None:
         """Record that this column is not to be used."""
         try:
-            self.session.set_aside(self.column)
+            self.session.set_aside(self.column, self.note())
         except LogNotSaved as problem:
             not_saved(self, problem)
             return
+        self.view.drafts.pop(self.column, None)
         self._after_change()
         tell(self, f"{self.column} set aside (saved)", timeout=3)
 
     def action_note(self) -> None:
         """Add or edit the note on this column."""
         saved = self.session.is_decided(self.column)
-        prompt = NotePrompt(self.column, self.session.note_of(self.column), saved)
+        prompt = NotePrompt(self.column, self.note(), saved)
         self.app.push_screen(prompt, self._noted)
 
     def _noted(self, note: str | None) -> None:
@@ -344,6 +325,10 @@ class InspectScreen(Screen[str]):
         except LogNotSaved as problem:
             not_saved(self, problem)
             return
+        if saved:
+            self.view.drafts.pop(self.column, None)
+        else:
+            self.view.drafts[self.column] = note  # recorded with the decision
         text = "note saved" if saved else "note kept; it is saved with the decision"
         tell(self, text, timeout=3)
         self._refresh_heading()
@@ -359,7 +344,7 @@ class InspectScreen(Screen[str]):
         """Next number of quantile groups (4, 5, 10, 20)."""
         self.groups = next_choice(GROUP_CHOICES, self.groups)
         self._refresh_heading()
-        self._load(self.query_one(FormsTable).highlighted_key() or self._want_label)
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def action_cycle_knots(self) -> None:
         """Next number of spline knots (3 to 7)."""
@@ -405,27 +390,25 @@ class InspectScreen(Screen[str]):
         if value is None:
             return
         cut = IndicatorCandidate(cut=value)
-        known = {c.label: c.key for c in self.request().by_hand()}
+        known = {c.label: c.key for c in self.request().wanted.by_hand()}
         if cut.label not in known:  # 12.5 and 12.5000001 read the same
-            cuts = self.session.hand_cuts.get(self.column, ())
-            self.session.hand_cuts[self.column] = cuts + (value,)
+            self.view.add_cut(self.column, value)
         self._load(known.get(cut.label, cut.key))
 
     def _hinge_entered(self, value: float | None) -> None:
         if value is None:
             return
         hinge = HingeCandidate(knot=value)
-        known = {c.label: c.key for c in self.request().by_hand()}
+        known = {c.label: c.key for c in self.request().wanted.by_hand()}
         if hinge.label not in known:
-            knots = self.session.hand_hinges.get(self.column, ())
-            self.session.hand_hinges[self.column] = knots + (value,)
+            self.view.add_hinge(self.column, value)
         self._load(known.get(hinge.label, hinge.key))
 
     # --- moving ---------------------------------------------------------------------------
 
     def action_step(self, step: int) -> None:
         """Show the previous or next column of the list."""
-        column = self.session.neighbour(self.column, step)
+        column = self.view.neighbour(self.column, step)
         if column is None:
             tell(self, "no more columns that way", timeout=2)
             return

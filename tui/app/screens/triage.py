@@ -18,6 +18,7 @@ from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.inspect import InspectScreen
 from tui.app.session import ReviewSession
 from tui.app.text import number_text
+from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import TriageTable
 from tui.engine.scan import ColumnScan
@@ -64,14 +65,14 @@ class TriageScreen(Screen[None]):
         # Named on the summary line above the list instead (the footer is full at 80).
         Binding(
             "m",
-            "working_model",
+            "app.working_model",
             "Working model",
             tooltip="Re-score the undecided columns in the working model",
             show=False,
         ),
         Binding(
             "u",
-            "first_scores",
+            "app.first_scores",
             "First scores",
             tooltip="Back to the first scan's scores",
             show=False,
@@ -86,6 +87,7 @@ class TriageScreen(Screen[None]):
     def __init__(self, session: ReviewSession, cache: FitCache) -> None:
         super().__init__()
         self.session, self.cache = session, cache
+        self.view: ReviewView = session.view  # this screen writes the list's order
         self.sort = SORTS[0]
         self.hide_decided = False
         self._filter = ""
@@ -176,10 +178,11 @@ class TriageScreen(Screen[None]):
         s = self.session
         hide = {c for c in s.columns if s.is_decided(c)} if self.hide_decided else set()
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
-        s.order = [r.column for r in rows]
+        self.view.order = [r.column for r in rows]
         table = self.query_one(TriageTable)
         table.hold_widths = self._rescoring
-        table.show(rows, s)
+        adjusted = any(r.adjusted_for for r in s.ranked)
+        table.show(rows, s.decision_words(), s.scan_finished, adjusted)
         self.set_class(table.adjusted_shown, "-adjusted")
         if self._follow_top:
             table.move_to_key(None)
@@ -306,24 +309,6 @@ class TriageScreen(Screen[None]):
     def action_decisions(self) -> None:
         """Open the recoding log."""
         self.app.push_screen(DecisionsScreen(self.session), self._open_from_log)
-
-    def action_working_model(self) -> None:
-        """Re-score the undecided columns in the working model."""
-        why_not = self.app.score_in_working_model()  # type: ignore[attr-defined]
-        if why_not is not None:
-            tell(self, why_not, severity="warning")
-            return
-        model = self.session.working_model()
-        size = f"{len(model)} column" + ("" if len(model) == 1 else "s")
-        tell(self, f"re-scoring in the working model ({size})", timeout=4)
-
-    def action_first_scores(self) -> None:
-        """Back to the first scan's scores."""
-        why_not = self.app.first_scores()  # type: ignore[attr-defined]
-        if why_not is not None:
-            tell(self, why_not, severity="warning")
-            return
-        tell(self, "first scan's scores shown", timeout=3)
 
     def _open_from_log(self, column: str | None) -> None:
         if column is not None:

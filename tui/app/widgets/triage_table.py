@@ -2,14 +2,14 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
 from textual.binding import Binding
 
-from tui.app.session import KEPT_LINEAR, SET_ASIDE, UNDECIDED, ReviewSession
 from tui.app.text import number_text, p_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.engine.scan import ColumnScan
+from tui.recodings.decisions import KEPT_LINEAR, SET_ASIDE, UNDECIDED
 
 PENDING = "…"
 """Shown for q-values and shape hints until every column is scanned."""
@@ -33,10 +33,9 @@ def decision_mark(word: str) -> str:
     return DECISION_MARKS.get(word, "✓")
 
 
-def scan_row(scan: ColumnScan, session: ReviewSession) -> Row:
-    """A table row for one scanned column, keyed by its name."""
-    word = session.decision_word(scan.column)
-    final = session.scan_finished
+def scan_row(scan: ColumnScan, word: str, final: bool) -> Row:
+    """A table row for one scanned column, keyed by its name: ``word`` is its decision,
+    ``final`` says the scan has ended (q-values and shapes are known)."""
     mark = decision_mark(word) + (FLAG_MARK if scan.flags else " ")
     return scan.column, {
         "name": f"{mark} {scan.column}",
@@ -84,8 +83,15 @@ class TriageTable(KeyTable):
             return self.SPECS
         return tuple(s for s in self.SPECS if s.key not in ADJUSTMENT_KEYS)
 
-    def show(self, scans: Sequence[ColumnScan], session: ReviewSession) -> None:
-        """Show these scanned columns (with the adjustment fields once any score of the
-        session is adjusted, so filtering never moves the columns)."""
-        self.adjusted_shown = any(s.adjusted_for for s in session.ranked)
-        self.show_rows([scan_row(s, session) for s in scans])
+    def show(
+        self,
+        scans: Sequence[ColumnScan],
+        words: Mapping[str, str],
+        final: bool,
+        adjusted: bool,
+    ) -> None:
+        """Show these scanned columns: ``words`` maps each column to its decision, ``final``
+        says the scan has ended; ``adjusted`` (some score of the review is adjusted) shows
+        the adjustment fields, so filtering never moves the columns."""
+        self.adjusted_shown = adjusted
+        self.show_rows([scan_row(s, words.get(s.column, UNDECIDED), final) for s in scans])

@@ -1,0 +1,67 @@
+"""The messages the review app's workers and screens post (Textual: attributes down,
+messages up). Worker threads post them; the app or the screen handles each with ``@on``."""
+
+from __future__ import annotations
+
+from textual.message import Message
+
+from tui.app.basis import Basis
+from tui.app.fit_cache import ColumnFits
+from tui.engine.scan import ColumnScan
+
+
+class ScanProgress(Message):
+    """The first scan has scored one more column."""
+
+    def __init__(self, ranked: list[ColumnScan], done: int, total: int, run: int) -> None:
+        super().__init__()
+        self.ranked, self.done, self.total, self.run = ranked, done, total, run
+
+
+class ScanDone(Message):
+    """The first scan has scored every column."""
+
+    def __init__(self, ranked: list[ColumnScan], total: int, run: int) -> None:
+        super().__init__()
+        self.ranked, self.total, self.run = ranked, total, run
+
+
+class RescoreStarted(Message):
+    """A working-model re-score has built its covariates."""
+
+    def __init__(self, basis: Basis, run: int) -> None:
+        super().__init__()
+        self.basis, self.run = basis, run
+
+
+class ColumnRescored(Message):
+    """One undecided column re-scored in the working model."""
+
+    def __init__(self, result: ColumnScan, basis: Basis, run: int) -> None:
+        super().__init__()
+        self.result, self.basis, self.run = result, basis, run
+
+
+class RescoreDone(Message):
+    """Every undecided column is re-scored in the working model."""
+
+    def __init__(self, basis: Basis, run: int) -> None:
+        super().__init__()
+        self.basis, self.run = basis, run
+
+
+class ScoresChanged(Message):
+    """The scores shown changed (a re-score, or back to the first scan's): sent to each
+    open column screen, which refits when its column's design changed."""
+
+    bubble = False
+
+
+class FitsReady(Message):
+    """A column's candidate fits are in (posted by the column screen's fit worker)."""
+
+    bubble = False
+
+    def __init__(self, fits: ColumnFits) -> None:
+        super().__init__()
+        self.fits = fits

@@ -1,0 +1,40 @@
+"""What the screens keep between them: the list's order, numbers typed by hand, and notes
+typed for columns not yet decided. Written by the screens only; the decisions themselves
+live in the log (``tui.recodings.decisions``)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass
+class ReviewView:
+    """The screens' state of one review (nothing here is saved)."""
+
+    order: list[str] = field(default_factory=list)
+    """Columns in the order the list screen shows them (for previous / next)."""
+    hand_cuts: dict[str, tuple[float, ...]] = field(default_factory=dict)
+    """Indicator cut points typed for each column."""
+    hand_hinges: dict[str, tuple[float, ...]] = field(default_factory=dict)
+    """Hinge knots typed for each column."""
+    drafts: dict[str, str] = field(default_factory=dict)
+    """Notes typed for columns not yet decided."""
+
+    def neighbour(self, column: str, step: int) -> str | None:
+        """The column ``step`` places away in the list's order (None past either end)."""
+        if column not in self.order:
+            return self.order[0] if self.order else None
+        i = self.order.index(column) + step
+        return self.order[i] if 0 <= i < len(self.order) else None
+
+    def note(self, column: str, saved: str) -> str:
+        """The note to show and record for the column: the draft, else the ``saved`` one."""
+        return self.drafts.get(column, saved)
+
+    def add_cut(self, column: str, value: float) -> None:
+        """One more indicator cut point typed for ``column``."""
+        self.hand_cuts[column] = self.hand_cuts.get(column, ()) + (value,)
+
+    def add_hinge(self, column: str, value: float) -> None:
+        """One more hinge knot typed for ``column``."""
+        self.hand_hinges[column] = self.hand_hinges.get(column, ()) + (value,)

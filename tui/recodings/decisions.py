@@ -1,0 +1,244 @@
+"""The decisions of one review and their log file: the service the review app calls.
+
+Every change goes through ``DecisionBook`` and is saved before it counts: the log in memory
+changes only after the file on disk has been written, so what a screen shows is what a
+dropped connection would leave behind. Nothing here knows of screens.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+from tui.engine.compare import FormFit
+from tui.engine.forms.base import Recoding
+from tui.engine.scan import ColumnScan
+from tui.paths import same_file
+from tui.problems import InputProblem
+from tui.recodings.evidence import (
+    DataFingerprint,
+    Evidence,
+    RowFigures,
+    ScoreFigures,
+    Weights,
+)
+from tui.recodings.load import load
+from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
+from tui.recodings.save import save
+
+UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"
+
+
+class LogNotSaved(Exception):
+    """The log file could not be written; the decision was not recorded."""
+
+
+def default_log_path(data: Path) -> Path:
+    """``<data stem>.recodings.json`` in the working folder."""
+    return Path(f"{data.stem}.recodings.json")
+
+
+def json_scalar(value: Any) -> Any:
+    """A JSON-safe scalar: numpy numbers become Python ones, NaN and inf become None."""
+    if isinstance(value, bool) or value is None or isinstance(value, str):
+        return value
+    if isinstance(value, int | float) or hasattr(value, "item"):
+        number = value.item() if hasattr(value, "item") else value
+        if isinstance(number, float) and not math.isfinite(number):
+            return None
+        return number
+    if isinstance(value, list | tuple):
+        return [json_scalar(v) for v in value]
+    return value
+
+
+def _number(value: float | None) -> float | None:
+    return json_scalar(None if value is None else float(value))
+
+
+def check_log_place(path: Path, data: Path) -> None:
+    """Raise InputProblem when the log cannot be kept at ``path`` (the data file itself,
+    not a file, or a folder that is missing or not writable)."""
+    if data.exists() and same_file(path, data):
+        raise InputProblem(f"--log {path} is the data file; choose another name for the log")
+    folder = path.parent if str(path.parent) else Path(".")
+    if path.exists() and not path.is_file():
+        raise InputProblem(f"--log {path} is not a file")
+    if not folder.is_dir():
+        raise InputProblem(f"cannot keep the log at {path}: folder {folder} does not exist")
+    if not os.access(folder, os.W_OK):
+        raise InputProblem(f"cannot keep the log at {path}: folder {folder} is not writable")
+
+
+def open_log(
+    path: Path, outcome: str, event: Any, source: SourceInfo
+) -> tuple[RecodingLog, str | None]:
+    """The log at ``path`` (or an empty one when there is none) and a warning when it was
+    written for other data. Raises InputProblem when it holds another outcome or event."""
+    if not path.exists():
+        return RecodingLog(outcome_column=outcome, event=json_scalar(event), source=source), None
+    log = load(path)
+    if log.outcome_column != outcome:
+        raise InputProblem(
+            f"{path} holds decisions for outcome '{log.outcome_column}', not '{outcome}'"
+        )
+    if str(log.event) != str(event):
+        raise InputProblem(
+            f"{path} counts '{log.event}' as the event, but this data counts "
+            f"'{event}'; pass --event {log.event}"
+        )
+    warning = None
+    if log.source.sha256 != source.sha256:
+        warning = (
+            f"{path.name} was written for {log.source.name} with different contents "
+            f"(its sha256 differs from {source.name}); check its decisions"
+        )
+    return log, warning
+
+
+@dataclass(frozen=True)
+class Design:
+    """The covariates and weights a row was fitted with, as the evidence names them."""
+
+    adjusted_for: tuple[str, ...] = ()
+    """Covariates in the fits (never the column itself)."""
+    words: str = "unadjusted"
+    """How each covariate and the weights entered, in words."""
+    weight: str | None = None
+    """Weight column, if any."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` (None without weights)."""
+
+
+def judged_evidence(
+    row: FormFit,
+    groups: int,
+    knots: int,
+    by_hand: bool,
+    scan: ColumnScan | None,
+    scan_finished: bool,
+    design: Design,
+    data: DataFingerprint,
+) -> Evidence:
+    """What the screens showed when ``row`` was accepted. ``scan`` is the column's score
+    when it came from the same design as the row (None otherwise); its q-value and shape
+    count only once the scan has finished."""
+    final = scan is not None and scan_finished
+    return Evidence(
+        row=RowFigures(
+            form=row.label,
+            df=int(row.df),
+            deviance=_number(row.deviance),
+            aic=_number(row.aic),
+            delta_aic=_number(row.delta_aic),
+            lr_p=_number(row.lr_p),
+            notes=tuple(str(n) for n in row.notes),
+            by_hand=bool(by_hand),
+        ),
+        groups=int(groups),
+        knots=int(knots),
+        score=ScoreFigures(
+            statistic=_number(scan.score) if scan else None,
+            df=int(scan.df) if scan and scan.df is not None else None,
+            p=_number(scan.p_value) if scan else None,
+            q_value=_number(scan.q_value) if scan and final else None,
+            shape=scan.shape if scan and final else None,
+        ),
+        adjusted_for=design.adjusted_for,
+        adjustment=design.words,
+        weights=Weights(design.weight, design.weight_kind),
+        data=data,
+    )
+
+
+@dataclass
+class DecisionBook:
+    """The recoding log of one review and every change to it, each saved before it counts."""
+
+    log: RecodingLog
+    """The decisions as saved on disk."""
+    path: Path
+    """Where the log is saved."""
+
+    def decision_word(self, column: str) -> str:
+        """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
+        if self.log.is_set_aside(column):
+            return SET_ASIDE
+        decision = self.log.decision_for(column)
+        if decision is None:
+            return UNDECIDED
+        if decision.recoding.kind == "linear" and decision.recoding.clip is None:
+            return KEPT_LINEAR
+        return decision.recoding.describe()
+
+    def saved_note(self, column: str) -> str:
+        """The note the log holds for the column ("" when none)."""
+        decision = self.log.decision_for(column)
+        if decision is not None:
+            return decision.note
+        aside = next((s for s in self.log.set_aside if s.column == column), None)
+        return aside.note if aside is not None else ""
+
+    def forms(self) -> dict[str, Recoding]:
+        """Each decided column's accepted recoding."""
+        return {d.column: d.recoding for d in self.log.decisions}
+
+    def accept(
+        self,
+        column: str,
+        recoding: Recoding,
+        training_range: tuple[float, float],
+        note: str,
+        evidence: Evidence,
+        source_columns: set[str],
+    ) -> Decision:
+        """Record ``recoding`` for ``column`` (output names clear of ``source_columns`` and
+        of the log's other outputs) and save the log."""
+        taken = source_columns | self.log.without(column).output_names()
+        decision = Decision.make(
+            column, recoding, training_range, note=note, evidence=evidence, taken=taken
+        )
+        self._commit(self.log.with_decision(decision))
+        return decision
+
+    def set_aside(self, column: str, note: str) -> SetAside:
+        """Record that the column is not to be used, and save the log."""
+        entry = SetAside(column, note=note)
+        self._commit(self.log.with_set_aside(entry))
+        return entry
+
+    def remove(self, column: str) -> str:
+        """Remove whatever the log holds for the column and save; returns its note."""
+        note = self.saved_note(column)
+        self._commit(self.log.without(column))
+        return note
+
+    def set_note(self, column: str, note: str) -> bool:
+        """Change the note of a decided or set-aside column and save; False (nothing
+        changed) when the log holds nothing for it."""
+        decision = self.log.decision_for(column)
+        if decision is not None:
+            changed = replace(decision, note=note)
+            decisions = tuple(changed if d.column == column else d for d in self.log.decisions)
+            self._commit(replace(self.log, decisions=decisions))
+            return True
+        if self.log.is_set_aside(column):
+            entries = tuple(
+                replace(s, note=note) if s.column == column else s for s in self.log.set_aside
+            )
+            self._commit(replace(self.log, set_aside=entries))
+            return True
+        return False
+
+    def _commit(self, log: RecodingLog) -> None:
+        try:
+            save(log, self.path)
+        except InputProblem as problem:  # the log module's one error type (names the file)
+            raise LogNotSaved(str(problem)) from problem
+        except OSError as problem:
+            reason = problem.strerror or str(problem)
+            raise LogNotSaved(f"cannot write {self.path}: {reason}") from problem
+        self.log = log

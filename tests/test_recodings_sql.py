@@ -158,25 +158,36 @@ def test_line_breaks_in_names_cannot_end_a_comment_early():
     assert con.execute("SELECT count(*) FROM t").fetchone() == (2,)
 
 
-def test_spark_sql_equals_python_replay():
-    # Optional: runs only where pyspark is installed (CI need not install it).
-    pyspark_sql = pytest.importorskip("pyspark.sql")
-    try:
-        spark = (
-            pyspark_sql.SparkSession.builder.master("local[1]")
-            .appName("bendwise-sql-test")
-            .config("spark.ui.enabled", "false")
-            .getOrCreate()
-        )
-    except Exception as problem:  # pyspark present but no Java runtime, for one
-        pytest.skip(f"Spark could not start in local mode: {problem}")
-    try:
-        log = every_kind_log()
-        table = spark.read.csv(str(TRAINING), header=True, inferSchema=True)
-        table.createOrReplaceTempView("cohort")
-        text = recodings.to_sql(log, "spark", "cohort")
-        database = spark.sql(text).toPandas().sort_values("record_id").reset_index(drop=True)
-        python = recodings.apply_to_frame(log, read_table(TRAINING)).sort_values("record_id")
-        assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
-    finally:
-        spark.stop()
+@pytest.mark.parametrize("dialect", sorted(DIALECTS))
+def test_view_statement_wraps_the_same_select(dialect):
+    log = every_kind_log()
+    select = recodings.to_sql(log, dialect, "cohort")
+    view = recodings.to_sql(log, dialect, "cohort", view="reporting.recoded")
+    q = DIALECTS[dialect].quote
+    head, body = view.split("\nSELECT\n", 1)
+    assert head.splitlines()[-1] == f"CREATE OR REPLACE VIEW {q}reporting{q}.{q}recoded{q} AS"
+    assert head.splitlines()[:-1] == select.splitlines()[:2]  # the same header comments
+    assert "SELECT\n" + body == select.split("\n", 2)[2].rstrip("\n") + ";\n"
+
+
+def test_view_names_are_checked_and_may_not_be_the_table_read():
+    log = every_kind_log()
+    for bad in ("", "a..b", "v\nDROP"):
+        with pytest.raises(ValueError, match="view name"):
+            recodings.to_sql(log, "duckdb", "cohort", view=bad)
+    with pytest.raises(ValueError, match="is the table it reads"):
+        recodings.to_sql(log, "postgres", "ward.cohort", view="ward.cohort")
+
+
+def test_duckdb_view_equals_python_replay():
+    log = every_kind_log()
+    con = duckdb.connect()
+    con.execute(f"CREATE TABLE cohort AS SELECT * FROM read_csv('{TRAINING}')")
+    con.execute("CREATE SCHEMA reporting")
+    statement = recodings.to_sql(log, "duckdb", "cohort", view='reporting.re"coded')
+    con.execute(statement)
+    con.execute(statement)  # replaces the view it made
+    database = con.execute('SELECT * FROM reporting."re""coded" ORDER BY record_id').df()
+    python = recodings.apply_to_frame(log, read_table(TRAINING)).sort_values("record_id")
+    assert list(database.columns) == list(python.columns)
+    assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))

@@ -40,6 +40,8 @@ class Dialect:
     """Name of the 64-bit floating-point type."""
     create_view: str = "CREATE OR REPLACE VIEW"
     """How a view is made; every dialect here can replace one (see the module notes)."""
+    view_name_refuses: str = ""
+    """Characters the database's catalog cannot hold in a view name, even quoted."""
 
     def identifier(self, name: str) -> str:
         """``name`` quoted, so any column name is read as written (case, spaces, quotes)."""
@@ -59,7 +61,11 @@ class Dialect:
 DIALECTS: dict[str, Dialect] = {
     "duckdb": Dialect("duckdb", '"', "DOUBLE"),
     "postgres": Dialect("postgres", '"', "DOUBLE PRECISION"),
-    "spark": Dialect("spark", "`", "DOUBLE"),
+    # Spark rejects a backtick in the name of a view it stores, however it is quoted
+    # (INVALID_ATTRIBUTE_NAME_SYNTAX); columns and temporary views may hold one. Its built-in
+    # session catalog further allows only letters, digits and _ there; other catalogs differ,
+    # so that is left to Spark to say.
+    "spark": Dialect("spark", "`", "DOUBLE", view_name_refuses="`"),
 }
 
 
@@ -95,6 +101,9 @@ def to_sql(
     d = DIALECTS[dialect]
     source = table_reference(table if table is not None else default_table(log), d)
     target = None if view is None else table_reference(view, d, "view")
+    refused = [ch for ch in d.view_name_refuses if view is not None and ch in view]
+    if refused:
+        raise ValueError(f"view name {view!r}: {d.name} cannot hold {refused[0]!r} in a view name")
     if target == source:
         raise ValueError(f"view name {view!r} is the table it reads; choose another name")
     lines = [

@@ -10,6 +10,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+import numpy as np
+import pandas as pd
 from conftest import GOLDEN, SAMPLE, UPDATE_GOLDEN
 
 from tui import __version__
@@ -99,3 +101,28 @@ def golden_text(name: str, actual: str) -> str:
 def read_golden(name: str) -> str:
     """A golden file's text, with this bendwise's version filled in."""
     return (GOLDEN / name).read_text(encoding="utf-8").replace("bendwise <version>", WRITER)
+
+
+def assert_same_outputs(python: pd.DataFrame, database: pd.DataFrame, names: list[str]) -> None:
+    """Each output equal to 1e-9, NULL (NaN) in exactly the same rows."""
+    for name in names:
+        ours = python[name].to_numpy(dtype=float)
+        theirs = database[name].to_numpy(dtype=float)
+        # NULL in the database where Python has NaN, and the same numbers elsewhere.
+        np.testing.assert_array_equal(np.isnan(ours), np.isnan(theirs), err_msg=name)
+        np.testing.assert_allclose(ours, theirs, rtol=1e-9, atol=1e-9, err_msg=name)
+
+
+def edge_values(log: RecodingLog) -> list[float]:
+    """Every number in the log, a step either side of it, and values where logs break."""
+    numbers = {-20.0, -12.0, -11.999, 0.0, 1e-9, 1.0, 500.0}
+    for decision in log.decisions:
+        params = decision.recoding.params
+        for key in ("knots", "edges"):
+            numbers.update(params.get(key, []))
+        for key in ("knot", "cut"):
+            if key in params:
+                numbers.add(params[key])
+        if decision.recoding.clip:
+            numbers.update(decision.recoding.clip)
+    return sorted({v + d for v in numbers for d in (-1e-6, 0.0, 1e-6)})

@@ -186,12 +186,23 @@ def test_sql_default_dialect_and_named_table(log_file, capsys):
     assert text.rstrip().endswith('FROM "ward_data"."cohort_2026"')
 
 
+@pytest.mark.parametrize("dialect", ["duckdb", "postgres", "spark"])
+def test_sql_view_prints_the_create_view_statement(log_file, dialect, capsys):
+    assert main(["sql", str(log_file), "--dialect", dialect, "--view", "recoded"]) == 0
+    expected = recodings.to_sql(every_kind_log(), dialect, view="recoded")
+    assert capsys.readouterr().out == expected
+    assert "CREATE OR REPLACE VIEW" in expected and expected.endswith(";\n")
+
+
 @pytest.mark.parametrize(
     "args, words",
     [
         (["--dialect", "oracle"], "invalid choice"),
         (["--table", "a..b"], "table name"),
         (["--table", ""], "table name"),
+        (["--view", "a..b"], "view name"),
+        (["--view", "surgical_cohort"], "is the table it reads"),
+        (["--dialect", "spark", "--view", "a`b"], "cannot hold"),
     ],
 )
 def test_sql_bad_options_give_one_line(log_file, args, words):

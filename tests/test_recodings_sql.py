@@ -11,6 +11,8 @@ from recodings_cases import (
     FRESH,
     OUTCOME,
     TRAINING,
+    assert_same_outputs,
+    edge_values,
     every_kind_log,
     golden_text,
     output_columns,
@@ -29,15 +31,6 @@ def _duckdb_replay(log: RecodingLog, csv_path, key: str = "record_id") -> pd.Dat
     con.execute(f"CREATE TABLE cohort AS SELECT * FROM read_csv('{csv_path}')")
     sql = recodings.to_sql(log, "duckdb", "cohort")
     return con.execute(f"SELECT * FROM ({sql}) AS replayed ORDER BY {key}").df()
-
-
-def _assert_same_outputs(python: pd.DataFrame, database: pd.DataFrame, names: list[str]) -> None:
-    for name in names:
-        ours = python[name].to_numpy(dtype=float)
-        theirs = database[name].to_numpy(dtype=float)
-        # NULL in the database where Python has NaN, and the same numbers elsewhere.
-        np.testing.assert_array_equal(np.isnan(ours), np.isnan(theirs), err_msg=name)
-        np.testing.assert_allclose(ours, theirs, rtol=1e-9, atol=1e-9, err_msg=name)
 
 
 @pytest.mark.parametrize("dialect", sorted(DIALECTS))
@@ -67,7 +60,7 @@ def test_duckdb_equals_python_replay_for_every_kind_on_the_training_data():
     database = _duckdb_replay(log, TRAINING)
     assert len(database) == len(python)
     assert list(database.columns) == list(python.columns)
-    _assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
+    assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
 
 
 def test_duckdb_equals_python_replay_on_the_fresh_extract():
@@ -75,34 +68,19 @@ def test_duckdb_equals_python_replay_on_the_fresh_extract():
     log = every_kind_log().without("albumin_g_l")
     python = recodings.apply_to_frame(log, read_table(FRESH)).sort_values("record_id")
     database = _duckdb_replay(log, FRESH)
-    _assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
-
-
-def _edge_values(log: RecodingLog) -> list[float]:
-    """Every number in the log, a step either side of it, and values where logs break."""
-    numbers = {-20.0, -12.0, -11.999, 0.0, 1e-9, 1.0, 500.0}
-    for decision in log.decisions:
-        params = decision.recoding.params
-        for key in ("knots", "edges"):
-            numbers.update(params.get(key, []))
-        for key in ("knot", "cut"):
-            if key in params:
-                numbers.add(params[key])
-        if decision.recoding.clip:
-            numbers.update(decision.recoding.clip)
-    return sorted({v + d for v in numbers for d in (-1e-6, 0.0, 1e-6)})
+    assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
 
 
 def test_duckdb_equals_python_at_cut_points_knots_clip_bounds_and_missing(tmp_path):
     log = every_kind_log()
-    values = _edge_values(log) + [np.nan]
+    values = edge_values(log) + [np.nan]
     columns = {column: values for column, _, _ in EVERY_KIND}
     frame = pd.DataFrame({"row": np.arange(len(values)), **columns})
     path = tmp_path / "edges.csv"
     frame.to_csv(path, index=False)
     python = recodings.apply_to_frame(log, read_table(path))
     database = _duckdb_replay(log, path, key="row")
-    _assert_same_outputs(python, database, output_columns(log))
+    assert_same_outputs(python, database, output_columns(log))
     # Non-positive shifted x gives missing log and power outputs in both.
     assert python["weight_change_kg__log"].isna().sum() > 1
     assert (
@@ -132,7 +110,7 @@ def test_nan_and_infinity_stored_in_the_database_count_as_missing():
     python = recodings.apply_to_frame(
         log, pd.DataFrame({"x": [1.0, np.nan, -np.inf, 3.0], "z": [1.0, np.inf, np.nan, np.nan]})
     )
-    _assert_same_outputs(python, database, ["x__below", "z__log"])
+    assert_same_outputs(python, database, ["x__below", "z__log"])
     assert database["x__below"].isna().tolist() == [False, True, True, False]
 
 
@@ -152,7 +130,7 @@ def test_any_column_name_is_quoted_safely_in_duckdb():
     database = con.execute(recodings.to_sql(log, "duckdb", "odd_frame")).df()
     python = recodings.apply_to_frame(log, frame)
     assert list(database.columns) == list(python.columns)
-    _assert_same_outputs(python, database, output_columns(log))
+    assert_same_outputs(python, database, output_columns(log))
 
 
 def test_table_names_are_quoted_part_by_part():
@@ -180,25 +158,36 @@ def test_line_breaks_in_names_cannot_end_a_comment_early():
     assert con.execute("SELECT count(*) FROM t").fetchone() == (2,)
 
 
-def test_spark_sql_equals_python_replay():
-    # Optional: runs only where pyspark is installed (CI need not install it).
-    pyspark_sql = pytest.importorskip("pyspark.sql")
-    try:
-        spark = (
-            pyspark_sql.SparkSession.builder.master("local[1]")
-            .appName("bendwise-sql-test")
-            .config("spark.ui.enabled", "false")
-            .getOrCreate()
-        )
-    except Exception as problem:  # pyspark present but no Java runtime, for one
-        pytest.skip(f"Spark could not start in local mode: {problem}")
-    try:
-        log = every_kind_log()
-        table = spark.read.csv(str(TRAINING), header=True, inferSchema=True)
-        table.createOrReplaceTempView("cohort")
-        text = recodings.to_sql(log, "spark", "cohort")
-        database = spark.sql(text).toPandas().sort_values("record_id").reset_index(drop=True)
-        python = recodings.apply_to_frame(log, read_table(TRAINING)).sort_values("record_id")
-        _assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))
-    finally:
-        spark.stop()
+@pytest.mark.parametrize("dialect", sorted(DIALECTS))
+def test_view_statement_wraps_the_same_select(dialect):
+    log = every_kind_log()
+    select = recodings.to_sql(log, dialect, "cohort")
+    view = recodings.to_sql(log, dialect, "cohort", view="reporting.recoded")
+    q = DIALECTS[dialect].quote
+    head, body = view.split("\nSELECT\n", 1)
+    assert head.splitlines()[-1] == f"CREATE OR REPLACE VIEW {q}reporting{q}.{q}recoded{q} AS"
+    assert head.splitlines()[:-1] == select.splitlines()[:2]  # the same header comments
+    assert "SELECT\n" + body == select.split("\n", 2)[2].rstrip("\n") + ";\n"
+
+
+def test_view_names_are_checked_and_may_not_be_the_table_read():
+    log = every_kind_log()
+    for bad in ("", "a..b", "v\nDROP"):
+        with pytest.raises(ValueError, match="view name"):
+            recodings.to_sql(log, "duckdb", "cohort", view=bad)
+    with pytest.raises(ValueError, match="is the table it reads"):
+        recodings.to_sql(log, "postgres", "ward.cohort", view="ward.cohort")
+
+
+def test_duckdb_view_equals_python_replay():
+    log = every_kind_log()
+    con = duckdb.connect()
+    con.execute(f"CREATE TABLE cohort AS SELECT * FROM read_csv('{TRAINING}')")
+    con.execute("CREATE SCHEMA reporting")
+    statement = recodings.to_sql(log, "duckdb", "cohort", view='reporting.re"coded')
+    con.execute(statement)
+    con.execute(statement)  # replaces the view it made
+    database = con.execute('SELECT * FROM reporting."re""coded" ORDER BY record_id').df()
+    python = recodings.apply_to_frame(log, read_table(TRAINING)).sort_values("record_id")
+    assert list(database.columns) == list(python.columns)
+    assert_same_outputs(python.reset_index(drop=True), database, output_columns(log))

@@ -17,6 +17,7 @@ from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
 from tui.intake.weights import FREQUENCY
+from tui.problems import InputProblem
 from tui.recodings.decisions import (
     KEPT_LINEAR,
     SET_ASIDE,

@@ -14,6 +14,7 @@ from tui.engine.forms import make_recoding
 from tui.recodings import RecodingLog, SetAside, SourceInfo, save
 from tui.recodings.codec import to_document
 from tui.recodings.diff import RECORD_KEYS, Change, diff_documents, diff_logs
+from tui.recodings.evidence import NOTHING
 
 BASE = every_kind_log()
 
@@ -46,7 +47,7 @@ def test_equal_logs_exit_0(tmp_path: Path, capsys) -> None:
     reordered = replace(BASE, decisions=tuple(reversed(BASE.decisions)))
     for d in reordered.decisions[:3]:
         reordered = reordered.with_decision(
-            replace(d, note="reworded", decided_at="2027-01-01T00:00:00+00:00", evidence={})
+            replace(d, note="reworded", decided_at="2027-01-01T00:00:00+00:00", evidence=NOTHING)
         )
     old, new = _write(tmp_path, "old.json", BASE), _write(tmp_path, "new.json", reordered)
     code, out, err = _run(capsys, "diff", str(old), str(new))

@@ -25,7 +25,7 @@ from recodings_cases import (
 
 from tui import recodings
 from tui.cli.main import main
-from tui.engine.forms import Recoding
+from tui.engine.forms import make_recoding
 from tui.intake import read_table
 from tui.recodings import Decision, RecodingLog, SourceInfo
 from tui.recodings.sql import DIALECTS
@@ -109,7 +109,7 @@ def test_odd_column_names_are_quoted_safely(cohort, tmp_path, capsys):
     odd = ['Body "mass"', "wt-change (kg)", "select", "a`b", "Ümlaut", "MixedCase"]
     decisions, taken = [], set()
     for name in odd:
-        d = Decision.make(name, Recoding("hinge", {"knot": 1.0}), (0, 3), taken=taken)
+        d = Decision.make(name, make_recoding("hinge", {"knot": 1.0}), (0, 3), taken=taken)
         taken |= set(d.outputs)
         decisions.append(d)
     log = RecodingLog(OUTCOME, 1, SourceInfo("t.csv", 3, "0" * 64), tuple(decisions))

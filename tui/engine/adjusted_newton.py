@@ -223,6 +223,8 @@ class ColumnRows:
     """Covariate block of the Hessian at that fit (shared by every form's chord steps)."""
     weighted: np.ndarray
     """``standard`` times ``base_root``: the covariate rows of every Hessian at that fit."""
+    covariate_means: np.ndarray
+    """Weighted means of the covariates on these rows (where curves are drawn)."""
 
     @staticmethod
     def of(block: CovariateBlock, x_all: np.ndarray) -> ColumnRows:
@@ -238,8 +240,11 @@ class ColumnRows:
         root = np.sqrt(trials * base_mean * (1.0 - base_mean))
         weighted = standard * root
         cross = weighted @ weighted.T
+        means = block.centre
+        if keep is not None:
+            means = (block.design[keep].T @ trials) / float(trials.sum())
         return ColumnRows(
-            block, keep, x, standard, events, trials, base_mean, root, cross, weighted
+            block, keep, x, standard, events, trials, base_mean, root, cross, weighted, means
         )
 
     @property
@@ -247,13 +252,6 @@ class ColumnRows:
         """Original covariate columns on these rows."""
         design = self.block.design
         return design if self.keep is None else design[self.keep]
-
-    @property
-    def covariate_means(self) -> np.ndarray:
-        """Weighted means of the covariates on these rows (where curves are drawn)."""
-        if self.keep is None:
-            return self.block.centre
-        return (self.covariates.T @ self.trials) / float(self.trials.sum())
 
     def start(self, basis_t: np.ndarray) -> np.ndarray:
         """Covariates-only fit plus one Newton step for the first form column alone."""
@@ -293,15 +291,18 @@ class ColumnRows:
         if found is None:
             xt = np.vstack([self.standard, basis_t])
             found = newton(xt, self.events, trials, beta)
-        if found is None:
-            design = np.column_stack([np.ones(self.x.size), self.covariates, cols.T])
-            return fit_logistic(design, self.events, self.trials), None
-        beta, ll = found
-        c = self.block.width
         scale_all = np.concatenate(([1.0], self.block.scale, scale))
         centre_all = np.concatenate(([0.0], self.block.centre, centre))
-        coef = beta / scale_all
-        coef[0] = beta[0] - float(np.sum(coef[1:] * centre_all[1:]))
+        if found is None:
+            # fit_logistic judges this design (step halving, separation), starting from
+            # where the fast steps stopped when they stayed finite.
+            design = np.column_stack([np.ones(self.x.size), self.covariates, cols.T])
+            coef = _original_scale(beta, centre_all, scale_all)
+            start = coef if np.all(np.isfinite(coef)) else None
+            return fit_logistic(design, self.events, self.trials, start=start), None
+        beta, ll = found
+        c = self.block.width
+        coef = _original_scale(beta, centre_all, scale_all)
         fit = LogisticFit(
             coef=coef,
             llf=ll,
@@ -312,3 +313,10 @@ class ColumnRows:
             rank_deficient=False,
         )
         return fit, beta
+
+
+def _original_scale(beta: np.ndarray, centre: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """Coefficients on standardised columns (intercept first) back on the original ones."""
+    coef = beta / scale
+    coef[0] = beta[0] - float(np.sum(coef[1:] * centre[1:]))
+    return coef

@@ -21,7 +21,11 @@ review screens keep using); tests compare the two and both against statsmodels.
 
 from __future__ import annotations
 
+import multiprocessing
+import signal
+import threading
 from collections.abc import Callable, Iterable, Iterator
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -31,13 +35,13 @@ from tui.engine.adjust import Adjustment
 from tui.engine.adjusted_newton import ColumnRows, CovariateBlock, covariate_block
 from tui.engine.compare import EVENTS_PER_PARAMETER, NOTE_FEW_EVENTS, ComparisonTable, FormFit
 from tui.engine.counts import ReducedCounts, reduce_column
-from tui.engine.fitting import LogisticFit, lr_test
+from tui.engine.fitting import LogisticFit, lr_test, one_blas_thread
 from tui.engine.forms.base import Candidate, Learned, Recoding, RecodingError
 from tui.engine.forms.fracpoly import POWERS, Fp1Candidate
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import SPLINE
-from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint
+from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint, scan_column
 from tui.engine.shape import curve_shape
 
 LEARN_WITHOUT_FITS = frozenset({"linear", "log", "quadratic", "spline", "bands"})
@@ -182,6 +186,7 @@ class _Column:
         self.column, self.x_all, self.scanner = column, x, scanner
         self.rows, self.counts = rows, counts
         self.starts: dict[str, np.ndarray] = {}
+        self.fits: dict[tuple[str, object], LogisticFit] = {}
 
     @staticmethod
     def of(column: str, x: np.ndarray, scanner: AdjustedScanner) -> _Column:
@@ -233,7 +238,21 @@ class _Column:
         fit, beta = self.rows.fit(basis, start)
         if kind == "linear" and beta is not None:
             self.starts["linear"] = beta
+        self.fits[(kind, recoding.params.get("shift"))] = fit
         return fit
+
+    def _fp1_fit(self, power: float, shift: float) -> LogisticFit:
+        """FP1 with power 1 is the linear model and power 0 the log model (same shift):
+        their fits serve, the intercept moved by the shift for power 1."""
+        if power == 1.0 and ("linear", None) in self.fits:
+            linear = self.fits[("linear", None)]
+            coef = linear.coef.copy()
+            coef[0] -= coef[-1] * shift
+            return replace(linear, coef=coef)
+        if power == 0.0 and ("log", shift) in self.fits:
+            return self.fits[("log", shift)]
+        recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
+        return self._fit("fp1", recoding)
 
     def _learn_and_fit(self, candidate: Candidate) -> tuple[Learned, LogisticFit]:
         if isinstance(candidate, Fp1Candidate):
@@ -250,7 +269,7 @@ class _Column:
         for power in POWERS:
             recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
             try:
-                fit = self._fit("fp1", recoding)
+                fit = self._fp1_fit(power, shift)
             except RecodingError:
                 continue
             key = (fit.ok, fit.llf)
@@ -354,3 +373,76 @@ def _failed(candidate: Candidate, problem: str) -> FormFit:
     return FormFit(
         candidate.key, candidate.label, candidate.form, None, 0, "failed", notes=(problem,)
     )
+
+
+def scan_adjusted(
+    columns: Iterable[str],
+    values_of: ValuesOf,
+    y: np.ndarray,
+    adjust: Adjustment,
+    settings: ScanSettings = ScanSettings(),
+    workers: int = 1,
+) -> Iterator[ColumnScan]:
+    """Every column of an adjusted scan (both passes), as ``runner.scan_columns`` yields.
+
+    A column left without covariates (the only covariate, scanned itself) takes the counts
+    path of ``scan_column``. With ``workers`` above 1, and when this process runs a single
+    thread, forked worker processes share the covariate block made here and scan a column
+    at a time each, results arriving as they finish; otherwise columns are scanned here,
+    in order.
+    """
+    names = list(columns)
+    scanner = AdjustedScanner(y, adjust, settings)
+    for name in names:  # the shared block, made once before any worker starts
+        if scanner.handles(name):
+            scanner.block(name)
+            break
+    count = min(max(1, workers), len(names))
+    methods = multiprocessing.get_all_start_methods()
+    if count <= 1 or "fork" not in methods or threading.active_count() > 1:
+        with one_blas_thread():
+            for name in names:
+                yield _scan_one(scanner, name, values_of)
+        return
+    context = multiprocessing.get_context("fork")
+    executor = ProcessPoolExecutor(
+        count, context, initializer=_inherit, initargs=(scanner, values_of)
+    )
+    pending: set[Future[ColumnScan]] = set()
+    try:
+        for name in names:
+            pending.add(executor.submit(_scan_inherited, name))
+            if len(pending) >= 2 * count:
+                done, pending = wait(pending, return_when=FIRST_COMPLETED)
+                for finished in done:
+                    yield finished.result()
+        while pending:
+            done, pending = wait(pending, return_when=FIRST_COMPLETED)
+            for finished in done:
+                yield finished.result()
+    finally:
+        executor.shutdown(wait=not pending, cancel_futures=True)
+
+
+def _scan_one(scanner: AdjustedScanner, name: str, values_of: ValuesOf) -> ColumnScan:
+    x = values_of(name)
+    if scanner.handles(name):
+        return scanner.scan(name, x)
+    return scan_column(name, x, scanner.y, scanner.settings, scanner.adjust)[0]
+
+
+_INHERITED: tuple[AdjustedScanner, ValuesOf] | None = None
+
+
+def _inherit(scanner: AdjustedScanner, values_of: ValuesOf) -> None:
+    """Worker start (fork): keep the scanner (and its covariate block) and the reader."""
+    global _INHERITED
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle
+    _INHERITED = (scanner, values_of)
+
+
+def _scan_inherited(name: str) -> ColumnScan:
+    assert _INHERITED is not None, "worker started without the parent's scanner"
+    with one_blas_thread():
+        scanner, values_of = _INHERITED
+        return _scan_one(scanner, name, values_of)

@@ -124,3 +124,15 @@ def test_hard_fits_are_handed_to_the_general_solver(rng):
     slow = scan_column("x", x, y, adjust=adjust)[0].as_record()
     assert "separation" in fast["flags"]
     assert fast["flags"] == slow["flags"] and fast["score"] == slow["score"]
+
+
+def test_second_pass_later_finishes_what_the_first_began(rng):
+    columns, y, cov = _data(rng, 2000)
+    adjust = Adjustment(build_covariates(["z1", "z2"], cov, {}))
+    scanner = AdjustedScanner(y, adjust)
+    firsts = {c: scanner.first_pass(c, x) for c, x in columns.items()}
+    for name, x in columns.items():
+        done = scanner.complete(name, x, firsts[name])
+        assert done == AdjustedScanner(y, adjust).scan(name, x)
+        assert done.score == firsts[name].scan.score  # the score is the first pass's
+        assert done.best_form is not None

@@ -11,8 +11,8 @@ Two passes, each a pure function of its inputs:
 
 - ``adjusted_scores``: linear and spline only, so the likelihood-ratio chi-square (the
   printed score), its p-value, the flags and the spline's shape are ready first;
-- ``complete_forms``: the other triage forms, for the best form, its ΔAIC and the
-  threshold hint.
+- ``AdjustedScanner.complete``: the other triage forms, for the best form, its ΔAIC and
+  the threshold hint (``AdjustedScanner.first_pass`` keeps what it reuses).
 
 ``adjusted_scan`` runs both per column. Its results are those of
 ``scan.scan_column`` with the same adjustment (the row-level reference path, which the
@@ -126,6 +126,18 @@ class AdjustedScanner:
                 rows.append(state.fit_row(candidate, linear))
         return state.summarise(first.scan, tuple(rows), final=True)
 
+    def first_pass(self, column: str, x: np.ndarray) -> FirstPass:
+        """First pass of one column: ``.scan`` holds its score; keep the whole for
+        ``complete``."""
+        return self.first(column, x)[0]
+
+    def complete(self, column: str, x: np.ndarray, first: FirstPass) -> ColumnScan:
+        """Second pass, any time after the first: the other forms, the best form, ΔAIC
+        and the threshold hint, reusing the first pass's linear and spline fits."""
+        if not first.fits:
+            return first.scan
+        return self.second(first, _Column.of(column, np.asarray(x, dtype=float), self))
+
     def scan(self, column: str, x: np.ndarray) -> ColumnScan:
         """Both passes for one column."""
         first, state = self.first(column, x)
@@ -144,19 +156,6 @@ def adjusted_scores(
     scanner = AdjustedScanner(y, adjust, settings)
     for column in columns:
         yield scanner.first(column, values_of(column))[0].scan
-
-
-def complete_forms(
-    column: str,
-    x: np.ndarray,
-    y: np.ndarray,
-    adjust: Adjustment,
-    settings: ScanSettings = ScanSettings(),
-    scanner: AdjustedScanner | None = None,
-) -> ColumnScan:
-    """Second pass for one column: its finished scan row (both passes, as ``scan_column``)."""
-    scanner = scanner or AdjustedScanner(y, adjust, settings)
-    return scanner.scan(column, x)
 
 
 def adjusted_scan(

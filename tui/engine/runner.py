@@ -27,6 +27,7 @@ from typing import Literal
 import numpy as np
 
 from tui.engine.adjust import Adjustment
+from tui.engine.adjusted_scan import scan_adjusted
 from tui.engine.fitting import one_blas_thread
 from tui.engine.scan import ColumnScan, ReducedColumn, ScanSettings, reduce_for_scan, scan_reduced
 
@@ -78,6 +79,10 @@ def scan_columns(
     names = list(columns)
     count = default_workers() if workers is None else max(1, int(workers))
     count = min(count, len(names))
+    if adjust is not None and adjust.covariates is not None:
+        # Adjusted columns share one covariate block and fit on rows (adjusted_scan).
+        yield from scan_adjusted(names, values_of, y, adjust, settings, workers=count)
+        return
     if count <= 1:
         with one_blas_thread():
             for name in names:

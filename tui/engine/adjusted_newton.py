@@ -1,0 +1,322 @@
+"""Row-level logistic fits that share their covariate block across columns and forms.
+
+An adjusted check fits intercept + covariates + a form of one column, on every row, for
+many columns and many forms. The covariate columns, their centring and scaling, the rows
+they leave out and the covariates-only fit are the same for all of them, so they are
+computed once (``CovariateBlock``) and every fit starts from the covariates-only fit.
+The Newton steps are the plain ones of ``fitting.fit_logistic`` on standardised columns,
+with the Bernoulli log-likelihood and the fitted probabilities taken from one exponential
+per row, and a Cholesky solve. Whenever a fit needs more than a full Newton step (step
+halving, a nearly collinear design, fitted log-odds beyond ±30, no convergence), the fast
+path gives up and ``fit_logistic`` fits that design, so hard cases behave exactly as before.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.linalg import lapack
+
+from tui.engine.fitting import LogisticFit, fit_logistic
+
+_MAX_ITER = 30
+_STEP_DONE = 1e-5
+"""A full Newton step smaller than this (standardised scale) leaves an error of its
+square: the fit is converged far beyond what the likelihood-ratio statistic needs."""
+_RANK_DOUBT = 1e-6
+"""Cholesky pivots this small relative to the largest hand the rank question to the QR
+of ``fit_logistic`` (its own threshold is 1e-9 on the same scale)."""
+_SEPARATION_ETA = 30.0
+_CHORD_STEPS = 12
+_CHORD_DONE = 1e-6
+"""A chord step this small leaves an error of about the rate times the step: settled."""
+_CHORD_RATE = 0.5
+"""Steps that shrink by less than this per step hand over to full Newton steps."""
+_WILD_STEP = 50.0
+"""A step this long on standardised columns is no refinement of a warm start."""
+
+
+def fitted_mean(eta: np.ndarray) -> np.ndarray:
+    """Fitted probabilities from one exponential per row (numpy's exp is vectorised;
+    scipy's expit and numpy's logaddexp cost ten times more here)."""
+    with np.errstate(over="ignore"):
+        return 1.0 / (1.0 + np.exp(-eta))
+
+
+def loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray | None) -> float:
+    """Bernoulli log-likelihood summed over the rows (``trials`` None: one per row)."""
+    soft = np.maximum(eta, 0.0) + np.log1p(np.exp(-np.abs(eta)))
+    return float(events @ eta - (soft.sum() if trials is None else trials @ soft))
+
+
+def scaling(columns: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Weighted mean and sd of each row of ``columns`` (columns × rows); sd 1 if constant."""
+    total = float(trials.sum())
+    centre = (columns @ trials) / total
+    spread = np.sqrt(np.maximum((np.square(columns - centre[:, None]) @ trials) / total, 0.0))
+    return centre, np.where(spread > 0, spread, 1.0)
+
+
+@dataclass(frozen=True, eq=False)
+class CovariateBlock:
+    """What every fit adjusted for the same covariates shares, on the usable rows."""
+
+    usable: np.ndarray
+    """Rows with every covariate present and weight above zero (boolean, all rows)."""
+    design: np.ndarray
+    """Original covariate columns, usable rows × covariates."""
+    standard: np.ndarray
+    """Intercept and standardised covariates, transposed: (1 + covariates) × usable rows."""
+    centre: np.ndarray
+    """Centres of the covariates."""
+    scale: np.ndarray
+    """Scales of the covariates."""
+    events: np.ndarray
+    """Events (or weighted events) on the usable rows."""
+    trials: np.ndarray
+    """1 per row, or the row weights, on the usable rows."""
+    beta: np.ndarray
+    """Covariates-only fit on the standardised scale."""
+    unit: bool
+    """Every row counts once (no weights)."""
+
+    @property
+    def width(self) -> int:
+        """Intercept plus covariate columns."""
+        return int(self.standard.shape[0])
+
+
+def covariate_block(
+    covariates: np.ndarray, y: np.ndarray, weights: np.ndarray | None = None
+) -> CovariateBlock:
+    """Standardise the covariates once and fit them alone (the start of every fit)."""
+    covariates = np.asarray(covariates, dtype=float).reshape(np.shape(y)[0], -1)
+    usable = np.all(np.isfinite(covariates), axis=1)
+    w = np.ones(usable.size) if weights is None else np.asarray(weights, dtype=float)
+    usable &= w > 0
+    design = covariates[usable]
+    trials = w[usable]
+    events = trials * np.asarray(y, dtype=float)[usable]
+    unit = weights is None
+    cols = np.ascontiguousarray(design.T)
+    centre, scale = scaling(cols, trials)
+    standard = np.vstack([np.ones((1, trials.size)), (cols - centre[:, None]) / scale[:, None]])
+    beta = np.zeros(standard.shape[0])
+    if trials.size:
+        pbar = (float(events.sum()) + 0.5) / (float(trials.sum()) + 1.0)
+        beta[0] = np.log(pbar / (1 - pbar))
+        found = newton(standard, events, None if unit else trials, beta)
+        if found is not None:
+            beta = found[0]
+    return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit)
+
+
+def newton(
+    xt: np.ndarray, events: np.ndarray, trials: np.ndarray | None, start: np.ndarray
+) -> tuple[np.ndarray, float] | None:
+    """Maximum likelihood on standardised columns ``xt`` (columns × rows) from ``start``.
+
+    Returns (coefficients, log-likelihood), or None when plain full Newton steps from the
+    start do not settle (the caller then fits with ``fit_logistic``, which halves steps).
+    The log-likelihood is strictly concave on a full-rank design, so steps that settle
+    have found its maximum; it is computed once, at the end.
+    """
+    beta = np.array(start, dtype=float)
+    eta = beta @ xt
+    for iteration in range(_MAX_ITER):
+        mu = fitted_mean(eta)
+        if trials is None:
+            resid, weight = events - mu, mu * (1.0 - mu)
+        else:
+            fitted = trials * mu
+            resid, weight = events - fitted, fitted * (1.0 - mu)
+        grad = xt @ resid
+        root = xt * np.sqrt(weight)
+        chol, info = lapack.dpotrf(root @ root.T, lower=0)
+        if info != 0:
+            return None
+        if iteration == 0:
+            pivots = np.abs(np.diagonal(chol))
+            if pivots.min() < _RANK_DOUBT * pivots.max():
+                return None
+        step, info = lapack.dpotrs(chol, grad, lower=0)
+        moved = float(np.abs(step).max())
+        if info != 0 or not moved < _WILD_STEP:
+            return None
+        beta = beta + step
+        eta = beta @ xt
+        if moved < _STEP_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
+                return None  # fitted probabilities at 0 or 1: let fit_logistic judge
+            return beta, loglik(eta, events, trials)
+    return None
+
+
+def chord(
+    parts: tuple[np.ndarray, np.ndarray],
+    hessian: np.ndarray,
+    events: np.ndarray,
+    trials: np.ndarray | None,
+    start: np.ndarray,
+) -> tuple[np.ndarray, float | None]:
+    """Newton steps that keep one Hessian (the chord method), on ``parts`` = covariate
+    rows and form rows of the standardised design.
+
+    The Hessian at the covariates-only fit has the same covariate block for every form of
+    a column, so it costs only the form's own rows; each step then costs two passes over
+    the rows instead of a cross product. Converges linearly, at a rate set by how far the
+    form moves the fitted probabilities. Returns (coefficients, log-likelihood) when
+    settled, or (coefficients so far, None) when the steps do not shrink fast enough (the
+    caller goes on with full Newton steps from there).
+    """
+    top, low = parts
+    c = top.shape[0]
+    chol, info = lapack.dpotrf(hessian, lower=0)
+    beta = np.array(start, dtype=float)
+    if info != 0:
+        return beta, None
+    pivots = np.abs(np.diagonal(chol))
+    if pivots.min() < _RANK_DOUBT * pivots.max():
+        return beta, None
+    eta = beta[:c] @ top + beta[c:] @ low
+    previous = np.inf
+    for _ in range(_CHORD_STEPS):
+        mu = fitted_mean(eta)
+        resid = events - (mu if trials is None else trials * mu)
+        grad = np.concatenate([top @ resid, low @ resid])
+        step, info = lapack.dpotrs(chol, grad, lower=0)
+        moved = float(np.abs(step).max())
+        if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
+            return beta, None
+        beta = beta + step
+        eta = beta[:c] @ top + beta[c:] @ low
+        if moved < _CHORD_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
+                return beta, None
+            return beta, loglik(eta, events, trials)
+        previous = moved
+    return beta, None
+
+
+@dataclass(frozen=True, eq=False)
+class ColumnRows:
+    """One column's usable rows within a block: the covariate part of every design."""
+
+    block: CovariateBlock
+    """The shared covariate block."""
+    keep: np.ndarray | None
+    """Block rows where x is finite; None when it is finite on every one."""
+    x: np.ndarray
+    """x on those rows."""
+    standard: np.ndarray
+    """Intercept and standardised covariates on those rows (columns × rows)."""
+    events: np.ndarray
+    """Events on those rows."""
+    trials: np.ndarray
+    """Trials (weights) on those rows."""
+    base_mean: np.ndarray
+    """Fitted probabilities of the covariates-only fit on those rows."""
+    base_root: np.ndarray
+    """Square roots of that fit's Newton weights."""
+    covariate_cross: np.ndarray
+    """Covariate block of the Hessian at that fit (shared by every form's chord steps)."""
+    weighted: np.ndarray
+    """``standard`` times ``base_root``: the covariate rows of every Hessian at that fit."""
+    covariate_means: np.ndarray
+    """Weighted means of the covariates on these rows (where curves are drawn)."""
+
+    @staticmethod
+    def of(block: CovariateBlock, x_all: np.ndarray) -> ColumnRows:
+        """Rows of ``x_all`` (every data row) that a fit of this column uses."""
+        x = np.asarray(x_all, dtype=float)[block.usable]
+        finite = np.isfinite(x)
+        keep = None if finite.all() else finite
+        standard, events, trials = block.standard, block.events, block.trials
+        if keep is not None:
+            x, standard = x[keep], np.ascontiguousarray(standard[:, keep])
+            events, trials = events[keep], trials[keep]
+        base_mean = fitted_mean(block.beta @ standard)
+        root = np.sqrt(trials * base_mean * (1.0 - base_mean))
+        weighted = standard * root
+        cross = weighted @ weighted.T
+        means = block.centre
+        if keep is not None:
+            means = (block.design[keep].T @ trials) / float(trials.sum())
+        return ColumnRows(
+            block, keep, x, standard, events, trials, base_mean, root, cross, weighted, means
+        )
+
+    @property
+    def covariates(self) -> np.ndarray:
+        """Original covariate columns on these rows."""
+        design = self.block.design
+        return design if self.keep is None else design[self.keep]
+
+    def start(self, basis_t: np.ndarray) -> np.ndarray:
+        """Covariates-only fit plus one Newton step for the first form column alone."""
+        beta = np.zeros(self.standard.shape[0] + basis_t.shape[0])
+        beta[: self.standard.shape[0]] = self.block.beta
+        first = basis_t[0]
+        fitted = self.trials * self.base_mean
+        info = float(np.square(first * self.base_root).sum())
+        if info > 0:
+            beta[self.standard.shape[0]] = float(first @ (self.events - fitted)) / info
+        return beta
+
+    def base_hessian(self, basis_t: np.ndarray) -> np.ndarray:
+        """The Hessian of intercept + covariates + form at the covariates-only fit."""
+        low = basis_t * self.base_root
+        side = self.weighted @ low.T
+        return np.block([[self.covariate_cross, side], [side.T, low @ low.T]])
+
+    def fit(
+        self, basis: np.ndarray, start: np.ndarray | None = None
+    ) -> tuple[LogisticFit, np.ndarray | None]:
+        """Intercept + covariates + ``basis`` (rows × form columns, original scale).
+
+        Also returns the coefficients on the standardised scale (None when
+        ``fit_logistic`` had to fit it): with zeros appended they start a design that adds
+        columns after these (spline and quadratic after linear: x is standardised alike).
+        """
+        cols = np.ascontiguousarray(np.asarray(basis, dtype=float).reshape(self.x.size, -1).T)
+        centre, scale = scaling(cols, self.trials)
+        basis_t = (cols - centre[:, None]) / scale[:, None]
+        if start is None or start.size != self.standard.shape[0] + basis_t.shape[0]:
+            start = self.start(basis_t)
+        trials = None if self.block.unit else self.trials
+        hessian = self.base_hessian(basis_t)
+        beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start)
+        found = None if ll is None else (beta, ll)
+        if found is None:
+            xt = np.vstack([self.standard, basis_t])
+            found = newton(xt, self.events, trials, beta)
+        scale_all = np.concatenate(([1.0], self.block.scale, scale))
+        centre_all = np.concatenate(([0.0], self.block.centre, centre))
+        if found is None:
+            # fit_logistic judges this design (step halving, separation), starting from
+            # where the fast steps stopped when they stayed finite.
+            design = np.column_stack([np.ones(self.x.size), self.covariates, cols.T])
+            coef = _original_scale(beta, centre_all, scale_all)
+            start = coef if np.all(np.isfinite(coef)) else None
+            return fit_logistic(design, self.events, self.trials, start=start), None
+        beta, ll = found
+        c = self.block.width
+        coef = _original_scale(beta, centre_all, scale_all)
+        fit = LogisticFit(
+            coef=coef,
+            llf=ll,
+            nobs=float(self.trials.sum()),
+            n_params=c + cols.shape[0],
+            converged=True,
+            separated=False,
+            rank_deficient=False,
+        )
+        return fit, beta
+
+
+def _original_scale(beta: np.ndarray, centre: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """Coefficients on standardised columns (intercept first) back on the original ones."""
+    coef = beta / scale
+    coef[0] = beta[0] - float(np.sum(coef[1:] * centre[1:]))
+    return coef

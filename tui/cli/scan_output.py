@@ -20,6 +20,7 @@ FIELDS = (
     "distinct",
     "score",
     "df",
+    "score_test",
     "p_value",
     "q_value",
     "shape",
@@ -61,7 +62,7 @@ def as_table(
     scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (), adjustment: str = ""
 ) -> str:
     """A fixed-width table, most non-linear first, then the columns not scanned."""
-    header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
+    header = ("#", "column", "n", "miss", "distinct", "score", "df", "test", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
     for i, s in enumerate(scans, 1):
@@ -74,6 +75,7 @@ def as_table(
                 str(s.distinct),
                 _num(s.score),
                 "-" if s.df is None else str(s.df),
+                s.score_test or "-",
                 _p(s.p_value),
                 _p(s.q_value),
                 s.shape or "-",
@@ -83,7 +85,7 @@ def as_table(
             )
         )
     widths = [max(len(r[j]) for r in rows) for j in range(len(header))]
-    right = {0, 2, 3, 4, 5, 6, 7, 8, 11}
+    right = {0, 2, 3, 4, 5, 6, 8, 9, 12}
     lines = []
     for r in rows:
         cells = [
@@ -97,7 +99,9 @@ def as_table(
     lines.append("")
     lines.append(
         f"{numeric} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
-        "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
+        "against linear of a restricted cubic spline (test spline) or, where tied values "
+        "leave no knots, of one indicator per distinct value (test values); "
+        "q = Benjamini-Hochberg."
     )
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")

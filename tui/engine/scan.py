@@ -1,8 +1,10 @@
 """Triage of one column and ranking of many.
 
 The non-linearity score is the likelihood-ratio chi-square of a restricted cubic spline
-(default 4 knots) against linear, on k - 2 df; q-values across scored columns follow
-Benjamini & Hochberg (1995). The column is reduced to counts once, and every fit uses them.
+(default 4 knots) against linear, on k - 2 df; where tied quantiles leave too few knots
+(few distinct values), of one indicator per value against linear (``values_test``);
+q-values across scored columns follow Benjamini & Hochberg (1995). The column is reduced
+to counts once, and every fit uses them.
 """
 
 from __future__ import annotations
@@ -26,6 +28,7 @@ from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
 from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
+from tui.engine.values_test import SPLINE_TEST, VALUES_TEST, values_score
 
 Q_LINEAR = 0.05
 """Columns whose q-value is at least this are hinted ``linear``."""
@@ -62,7 +65,7 @@ class ColumnScan:
     flags: tuple[str, ...]
     """Warning words (see ``tui.engine.flags``)."""
     score: float | None = None
-    """LR chi-square, spline vs linear; None when not scored."""
+    """LR chi-square against linear (see ``score_test``); None when not scored."""
     df: int | None = None
     """Degrees of freedom of the score."""
     p_value: float | None = None
@@ -85,6 +88,9 @@ class ColumnScan:
     """Covariates in every fit of this column (empty: one column at a time)."""
     weight: str | None = None
     """Weight column used in every fit, if any."""
+    score_test: str | None = None
+    """Which test gave the score: ``spline`` (spline against linear) or ``values`` (one
+    indicator per distinct value against linear, for few-value columns); None unscored."""
 
     def as_record(self) -> dict[str, object]:
         """Plain values for JSON/CSV output."""
@@ -100,6 +106,7 @@ class ColumnScan:
             "distinct": self.distinct,
             "score": num(self.score),
             "df": self.df,
+            "score_test": self.score_test,
             "p_value": num(self.p_value),
             "q_value": num(self.q_value),
             "shape": self.shape,
@@ -184,6 +191,8 @@ def scan_counts(
         best_form=best.recoding.describe() if best and best.recoding else None,
         delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
     )
+    if spline is not None and spline.status == "failed" and linear.status == "ok":
+        return _values_scored(result, counts, table), table
     if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
         return result, table
     return (
@@ -192,9 +201,26 @@ def scan_counts(
             score=spline.lr_chi2,
             df=spline.lr_df,
             p_value=spline.lr_p,
+            score_test=SPLINE_TEST,
             shape=_shape_hint(table, counts),
         ),
         table,
+    )
+
+
+def _values_scored(result: ColumnScan, counts: ReducedCounts, table: ComparisonTable) -> ColumnScan:
+    """Tied quantiles left the spline no knots: score by one indicator per value instead."""
+    values = values_score(counts, table.linear)
+    if values is None:
+        return result
+    shape = curve_shape(values.values, values.log_odds)
+    return replace(
+        result,
+        score=values.chi2,
+        df=values.df,
+        p_value=values.p_value,
+        score_test=VALUES_TEST,
+        shape=shape,
     )
 
 

@@ -8,8 +8,20 @@ import numpy as np
 
 
 def bh_qvalues(p_values: Sequence[float]) -> np.ndarray:
-    """Step-up false discovery rate adjusted p-values, in input order."""
+    """Step-up false discovery rate adjusted p-values, in input order.
+
+    A missing (NaN) p-value stays NaN and does not count among the tests; the others are
+    adjusted among themselves.
+    """
     p = np.asarray(p_values, dtype=float)
+    q = np.full(p.size, np.nan)
+    known = ~np.isnan(p)
+    q[known] = _bh(p[known])
+    return q
+
+
+def _bh(p: np.ndarray) -> np.ndarray:
+    """q-values of p-values that are all present."""
     m = p.size
     if m == 0:
         return p

@@ -27,7 +27,7 @@ from tui.engine.counts import (
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
-from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
+from tui.engine.shape import LINEAR, THRESHOLD, TURNING, curve_shape
 from tui.engine.values_test import SPLINE_TEST, VALUES_TEST, values_score
 
 Q_LINEAR = 0.05
@@ -127,7 +127,7 @@ def _shape_hint(table: ComparisonTable, counts: ReducedCounts) -> str:
     grid = np.linspace(lo, hi, 201)
     shape = curve_shape(grid, spline.log_odds(grid))
     best = table.best()
-    if shape == U_SHAPE or best is None or best.fit is None:
+    if shape in TURNING or best is None or best.fit is None:
         return shape
     return THRESHOLD if best.form.shows_threshold(best.form_coef) else shape
 

@@ -29,6 +29,9 @@ FIELDS = (
     "flags",
     "adjusted_for",
     "weight",
+    "weight_kind",
+    "weighted_n",
+    "weighted_events",
 )
 
 
@@ -58,6 +61,11 @@ def _num(value: float | None, digits: int = 1) -> str:
     return "-" if value is None or not math.isfinite(value) else f"{value:.{digits}f}"
 
 
+def _rows(s: ColumnScan) -> str:
+    """Rows used, and beside them the sum of their weights when weighted."""
+    return str(s.n) if s.weighted_n is None else f"{s.n} (w {s.weighted_n:.1f})"
+
+
 def as_table(
     scans: Sequence[ColumnScan], skipped: Sequence[tuple[str, str]] = (), adjustment: str = ""
 ) -> str:
@@ -70,7 +78,7 @@ def as_table(
             (
                 str(i),
                 s.column,
-                str(s.n),
+                _rows(s),
                 str(s.missing),
                 str(s.distinct),
                 _num(s.score),
@@ -103,6 +111,12 @@ def as_table(
         "leave no knots, of one indicator per distinct value (test values); "
         "q = Benjamini-Hochberg."
     )
+    kinds = sorted({s.weight_kind for s in scans if s.weighted_n is not None})
+    if kinds:
+        lines.append(
+            f"n counts rows; (w ...) beside it sums their {' and '.join(kinds)} weights"
+            + (" (average 1 over each column's rows)." if "survey" in kinds else ".")
+        )
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     for name, why in skipped:

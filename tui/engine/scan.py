@@ -55,11 +55,12 @@ class ColumnScan:
     rows: int
     """Rows with an outcome."""
     n: int
-    """Rows with a finite value."""
+    """Rows used in the fits (finite value; weight above zero; covariates complete): a count
+    of rows, never of weights."""
     missing: int
     """Rows missing or non-finite."""
     events: int
-    """Events among the n rows."""
+    """Event rows among the n rows (rows, like ``n``; ``weighted_events`` sums weights)."""
     distinct: int
     """Distinct finite values."""
     flags: tuple[str, ...]
@@ -88,6 +89,12 @@ class ColumnScan:
     """Covariates in every fit of this column (empty: one column at a time)."""
     weight: str | None = None
     """Weight column used in every fit, if any."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` when weighted."""
+    weighted_n: float | None = None
+    """Sum of the weights of the n rows (survey weights average 1 over them); None unweighted."""
+    weighted_events: float | None = None
+    """Sum of the weights of the event rows; None unweighted."""
     score_test: str | None = None
     """Which test gave the score: ``spline`` (spline against linear) or ``values`` (one
     indicator per distinct value against linear, for few-value columns); None unscored."""
@@ -115,6 +122,9 @@ class ColumnScan:
             "flags": list(self.flags),
             "adjusted_for": list(self.adjusted_for),
             "weight": self.weight,
+            "weight_kind": self.weight_kind,
+            "weighted_n": num(self.weighted_n),
+            "weighted_events": num(self.weighted_events),
         }
 
 
@@ -245,6 +255,10 @@ class ReducedColumn:
     """Covariates in every fit."""
     weight: str | None = None
     """Weight column, if any."""
+    present_events: int | None = None
+    """Event rows among the ``present`` rows (rows, not weights)."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` when weighted."""
 
 
 def reduce_for_scan(
@@ -273,9 +287,11 @@ def reduce_for_scan(
     design = adjust.covariates_for(column)
     if design is not None:
         used &= design.complete
-        counts = rows_with_covariates(x, y, design.matrix, adjust.weights)
+    weights = adjust.weights_over(used)
+    if design is not None:
+        counts = rows_with_covariates(x, y, design.matrix, weights)
     else:
-        counts = reduce_column(x, y, weights=adjust.weights, max_levels=settings.max_levels)
+        counts = reduce_column(x, y, weights=weights, max_levels=settings.max_levels)
     return ReducedColumn(
         counts,
         rows,
@@ -284,6 +300,8 @@ def reduce_for_scan(
         int(used.sum()),
         adjust.adjusted_for(column),
         adjust.weight_column,
+        int(np.count_nonzero(np.asarray(y)[used] == 1)),
+        adjust.weight_kind,
     )
 
 
@@ -315,6 +333,15 @@ def scan_reduced(
     )
     if reduced.adjusted_for or reduced.weight:
         result = replace(result, adjusted_for=reduced.adjusted_for, weight=reduced.weight)
+    if reduced.present_events is not None:  # n and events both count rows
+        result = replace(result, events=reduced.present_events)
+    if reduced.weight:
+        result = replace(
+            result,
+            weight_kind=reduced.weight_kind,
+            weighted_n=reduced.counts.rows,
+            weighted_events=reduced.counts.total_events,
+        )
     return result, table
 
 

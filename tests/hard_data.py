@@ -14,6 +14,8 @@ def standardised(basis: np.ndarray) -> np.ndarray:
     """Intercept plus each column centred and scaled (so statsmodels' solver is not
     thrown by magnitudes such as 1e6)."""
     basis = np.asarray(basis, dtype=float).reshape(len(basis), -1)
+    big = np.abs(basis).max(axis=0)
+    basis = basis / np.where(big > 0, big, 1.0)  # squares of 1e200 would overflow
     sd = basis.std(axis=0)
     sd[sd == 0] = 1.0
     return sm.add_constant((basis - basis.mean(axis=0)) / sd, has_constant="add")

@@ -12,8 +12,8 @@ from tui.engine.forms.shift import learn_shift
 
 BINNED_LR_TOLERANCE = 0.03
 """Largest relative LR difference binned against exact accepted here, or 2 deviance points
-for small LRs (a searched cut point moves between bin means), at 40,000 rows and the default 1,000 bins;
-benchmarks/results/binned_accuracy.md has the 250,000-row figures (all within 2%)."""
+for small LRs (a searched cut point moves between bin means), at 40,000 rows and the
+default 1,000 bins; benchmarks/results/binned_accuracy.md has the 250,000-row figures."""
 
 
 def _lognormal_with_negatives(n: int = 40_000, seed: int = 21):

@@ -28,3 +28,32 @@ def test_ties_share_one_q_value():
 
 def test_empty_input():
     assert bh_qvalues([]).size == 0
+
+
+def test_nan_p_values_stay_nan_and_the_rest_match_statsmodels_without_them(rng):
+    # Reference library statsmodels multipletests(method="fdr_bh") on the p-values left
+    # after removing the NaNs.
+    p = rng.uniform(0, 1, 50) ** 2
+    p[[3, 17, 40]] = np.nan
+    q = bh_qvalues(p)
+    known = ~np.isnan(p)
+    assert np.isnan(q[~known]).all()
+    np.testing.assert_allclose(q[known], multipletests(p[known], method="fdr_bh")[1], rtol=1e-12)
+
+
+def test_rank_with_a_nan_p_value_gives_the_others_their_q_values():
+    # Reference library statsmodels multipletests on the two present p-values.
+    from dataclasses import replace
+
+    from tui.engine.scan import ColumnScan, rank
+
+    base = ColumnScan("a", 10, 10, 0, 5, 10, ())
+    scans = [
+        replace(base, column="a", score=9.0, df=2, p_value=0.011),
+        replace(base, column="b", score=1.0, df=2, p_value=float("nan")),
+        replace(base, column="c", score=3.0, df=2, p_value=0.2),
+    ]
+    by = {s.column: s for s in rank(scans)}
+    expected = multipletests([0.011, 0.2], method="fdr_bh")[1]
+    assert [by["a"].q_value, by["c"].q_value] == list(expected)
+    assert np.isnan(by["b"].q_value)

@@ -20,6 +20,7 @@ FIELDS = (
     "distinct",
     "score",
     "df",
+    "score_test",
     "p_value",
     "q_value",
     "shape",
@@ -28,6 +29,9 @@ FIELDS = (
     "flags",
     "adjusted_for",
     "weight",
+    "weight_kind",
+    "weighted_n",
+    "weighted_events",
 )
 
 
@@ -47,10 +51,15 @@ def as_csv(scans: Sequence[ColumnScan]) -> str:
     return out.getvalue()
 
 
+def _rows(s: ColumnScan) -> str:
+    """Rows used, and beside them the sum of their weights when weighted."""
+    return str(s.n) if s.weighted_n is None else f"{s.n} (w {s.weighted_n:.1f})"
+
+
 def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
     """A fixed-width table, most non-linear first; non-numeric columns are rows of their own
     (flag ``not-numeric``), listed once like every other column."""
-    header = ("#", "column", "n", "miss", "distinct", "score", "df", "p", "q", "shape",
+    header = ("#", "column", "n", "miss", "distinct", "score", "df", "test", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
     for i, s in enumerate(scans, 1):
@@ -58,11 +67,12 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
             (
                 str(i),
                 s.column,
-                str(s.n),
+                _rows(s),
                 str(s.missing),
                 str(s.distinct),
                 number_text(s.score),
                 "-" if s.df is None else str(s.df),
+                s.score_test or "-",
                 p_text(s.p_value),
                 p_text(s.q_value),
                 s.shape or "-",
@@ -72,7 +82,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
             )
         )
     widths = [max(len(r[j]) for r in rows) for j in range(len(header))]
-    right = {0, 2, 3, 4, 5, 6, 7, 8, 11}
+    right = {0, 2, 3, 4, 5, 6, 8, 9, 12}
     lines = []
     for r in rows:
         cells = [
@@ -86,8 +96,16 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
     lines.append("")
     lines.append(
         f"{numeric} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
-        "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
+        "against linear of a restricted cubic spline (test spline) or, where tied values "
+        "leave no knots, of one indicator per distinct value (test values); "
+        "q = Benjamini-Hochberg."
     )
+    kinds = sorted({s.weight_kind for s in scans if s.weighted_n is not None})
+    if kinds:
+        lines.append(
+            f"n counts rows; (w ...) beside it sums their {' and '.join(kinds)} weights"
+            + (" (average 1 over each column's rows)." if "survey" in kinds else ".")
+        )
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     lines.append(f"Caution: {SHORT_CAUTION}")

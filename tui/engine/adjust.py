@@ -35,6 +35,20 @@ class Adjustment:
     weight_kind: str | None = None
     """``frequency`` or ``survey``."""
 
+    def weights_over(self, used: np.ndarray) -> np.ndarray | None:
+        """Row weights for the fits of one column, over the rows ``used`` by it.
+
+        Survey weights say how much each row counts relative to the others, so they are
+        rescaled to average 1 over the column's own rows (the number of observations stays
+        its number of rows, whichever rows it is missing); frequency weights are counts and
+        stay as they are.
+        """
+        if self.weights is None or self.weight_kind != "survey" or not used.any():
+            return self.weights
+        scaled = self.weights.copy()
+        scaled[used] = scaled[used] / scaled[used].mean()
+        return scaled
+
     def covariates_for(self, column: str) -> CovariateDesign | None:
         """The covariates for one column: never the column itself; None when none remain."""
         if self.covariates is None:

@@ -24,6 +24,8 @@ DEFAULT_MAX_LEVELS = 1000
 EXACT_BELOW_ROWS = 50_000
 """Below this many rows the reduction is always exact."""
 _QUANTILE_GRID = 2001
+TAIL_ROWS = 50
+"""Rows at each end of a binned column that keep their own value (each distinct value a bin)."""
 
 
 @dataclass(frozen=True)
@@ -49,6 +51,9 @@ class ReducedCounts:
     """Largest value of the column; None means ``x[-1]`` (always so when exact)."""
     covariates: np.ndarray | None = None
     """Adjusted checks only: covariate design columns, one row per x (rows not reduced)."""
+    gap: float | None = None
+    """Smallest positive difference between sorted distinct values of the column; None
+    means it is read off ``x`` (always so when exact). Bin means are further apart."""
 
     @property
     def covariate_df(self) -> int:
@@ -96,6 +101,13 @@ class ReducedCounts:
             return self.high
         return float(self.x[-1]) if self.x.size else None
 
+    @property
+    def smallest_gap(self) -> float | None:
+        """Smallest positive difference between distinct values (None for one value)."""
+        if self.gap is not None:
+            return self.gap
+        return smallest_gap(np.unique(self.x))
+
     def quantile(self, probs: np.ndarray | list[float] | float) -> np.ndarray:
         """Quantiles of the rows' x, numpy's default (linear, type 7) definition."""
         probs = np.atleast_1d(np.asarray(probs, dtype=float))
@@ -137,6 +149,13 @@ def rows_with_covariates(
         high=high,
         covariates=covariates[ok][order],
     )
+
+
+def smallest_gap(xs: np.ndarray) -> float | None:
+    """Smallest positive step in ascending ``xs`` (None when there is none)."""
+    steps = np.diff(xs)
+    steps = steps[steps > 0]
+    return float(steps.min()) if steps.size else None
 
 
 def weighted_type7_quantile(
@@ -204,8 +223,17 @@ def _bin_bounds(xs: np.ndarray, bins: int) -> np.ndarray:
     by_count = _equal_count_bounds(xs, max(1, bins // 2))
     steps = np.linspace(xs[0], xs[-1], bins - bins // 2 + 1)[1:-1]
     by_width = np.searchsorted(xs, steps, side="left")  # the first position of a value
-    cut = np.unique(np.r_[by_count, by_width])
+    cut = np.unique(np.r_[by_count, by_width, _tail_starts(xs)])
     return np.r_[0, cut[(cut > 0) & (cut < xs.size)]]
+
+
+def _tail_starts(xs: np.ndarray) -> np.ndarray:
+    """Start of each distinct value among the ``TAIL_ROWS`` lowest and highest rows: the
+    extremes keep their own x, where a shift puts the steepest part of a log or negative
+    power and a bin mean would sit far from its rows (benchmarks/results/binned_accuracy.md)."""
+    head = np.unique(xs[: TAIL_ROWS + 1])
+    tail = np.unique(xs[-TAIL_ROWS:])
+    return np.searchsorted(xs, np.r_[head, tail], side="left")
 
 
 def reduce_column(
@@ -268,7 +296,17 @@ def _reduce_binary(
     events = np.diff(np.r_[np.searchsorted(xe, xs[bounds], side="left"), xe.size]).astype(float)
     means = np.add.reduceat(xs, bounds) / trials
     grid = sorted_quantile(xs, np.linspace(0.0, 1.0, _QUANTILE_GRID))
-    return ReducedCounts(means, trials, events, False, grid, distinct, float(xs[0]), float(xs[-1]))
+    return ReducedCounts(
+        means,
+        trials,
+        events,
+        False,
+        grid,
+        distinct,
+        float(xs[0]),
+        float(xs[-1]),
+        gap=smallest_gap(xs),
+    )
 
 
 def _reduce_general(
@@ -308,5 +346,13 @@ def _reduce_general(
     means = np.add.reduceat(ws * xs, bounds) / trials
     grid = sorted_quantile(xs, np.linspace(0.0, 1.0, _QUANTILE_GRID))
     return ReducedCounts(
-        means, trials, events, False, grid, int(starts.size), float(xs[0]), float(xs[-1])
+        means,
+        trials,
+        events,
+        False,
+        grid,
+        int(starts.size),
+        float(xs[0]),
+        float(xs[-1]),
+        gap=smallest_gap(xs),
     )

@@ -1,8 +1,10 @@
 """Triage of one column and ranking of many.
 
 The non-linearity score is the likelihood-ratio chi-square of a restricted cubic spline
-(default 4 knots) against linear, on k - 2 df; q-values across scored columns follow
-Benjamini & Hochberg (1995). The column is reduced to counts once, and every fit uses them.
+(default 4 knots) against linear, on k - 2 df; where tied quantiles leave too few knots
+(few distinct values), of one indicator per value against linear (``values_test``);
+q-values across scored columns follow Benjamini & Hochberg (1995). The column is reduced
+to counts once, and every fit uses them.
 """
 
 from __future__ import annotations
@@ -26,7 +28,8 @@ from tui.engine.fittable import one_outcome_class, too_few_values
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
-from tui.engine.shape import LINEAR, THRESHOLD, U_SHAPE, curve_shape
+from tui.engine.shape import LINEAR, THRESHOLD, TURNING, curve_shape
+from tui.engine.values_test import SPLINE_TEST, VALUES_TEST, values_score
 
 Q_LINEAR = 0.05
 """Columns whose q-value is at least this are hinted ``linear``."""
@@ -53,17 +56,18 @@ class ColumnScan:
     rows: int
     """Rows with an outcome."""
     n: int
-    """Rows with a finite value."""
+    """Rows used in the fits (finite value; weight above zero; covariates complete): a count
+    of rows, never of weights."""
     missing: int
     """Rows missing or non-finite."""
     events: int
-    """Events among the n rows."""
+    """Event rows among the n rows (rows, like ``n``; ``weighted_events`` sums weights)."""
     distinct: int
     """Distinct finite values."""
     flags: tuple[str, ...]
     """Warning words (see ``tui.engine.flags``)."""
     score: float | None = None
-    """LR chi-square, spline vs linear; None when not scored."""
+    """LR chi-square against linear (see ``score_test``); None when not scored."""
     df: int | None = None
     """Degrees of freedom of the score."""
     p_value: float | None = None
@@ -86,6 +90,15 @@ class ColumnScan:
     """Covariates in every fit of this column (empty: one column at a time)."""
     weight: str | None = None
     """Weight column used in every fit, if any."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` when weighted."""
+    weighted_n: float | None = None
+    """Sum of the weights of the n rows (survey weights average 1 over them); None unweighted."""
+    weighted_events: float | None = None
+    """Sum of the weights of the event rows; None unweighted."""
+    score_test: str | None = None
+    """Which test gave the score: ``spline`` (spline against linear) or ``values`` (one
+    indicator per distinct value against linear, for few-value columns); None unscored."""
 
     def as_record(self) -> dict[str, object]:
         """Plain values for JSON/CSV output."""
@@ -101,6 +114,7 @@ class ColumnScan:
             "distinct": self.distinct,
             "score": num(self.score),
             "df": self.df,
+            "score_test": self.score_test,
             "p_value": num(self.p_value),
             "q_value": num(self.q_value),
             "shape": self.shape,
@@ -109,6 +123,9 @@ class ColumnScan:
             "flags": list(self.flags),
             "adjusted_for": list(self.adjusted_for),
             "weight": self.weight,
+            "weight_kind": self.weight_kind,
+            "weighted_n": num(self.weighted_n),
+            "weighted_events": num(self.weighted_events),
         }
 
 
@@ -121,7 +138,7 @@ def _shape_hint(table: ComparisonTable, counts: ReducedCounts) -> str:
     grid = np.linspace(lo, hi, 201)
     shape = curve_shape(grid, spline.log_odds(grid))
     best = table.best()
-    if shape == U_SHAPE or best is None or best.fit is None:
+    if shape in TURNING or best is None or best.fit is None:
         return shape
     return THRESHOLD if best.form.shows_threshold(best.form_coef) else shape
 
@@ -181,6 +198,8 @@ def scan_counts(
         best_form=best.recoding.describe() if best and best.recoding else None,
         delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
     )
+    if spline is not None and spline.status == "failed" and linear.status == "ok":
+        return _values_scored(result, counts, table), table
     if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
         return result, table
     return (
@@ -189,9 +208,26 @@ def scan_counts(
             score=spline.lr_chi2,
             df=spline.lr_df,
             p_value=spline.lr_p,
+            score_test=SPLINE_TEST,
             shape=_shape_hint(table, counts),
         ),
         table,
+    )
+
+
+def _values_scored(result: ColumnScan, counts: ReducedCounts, table: ComparisonTable) -> ColumnScan:
+    """Tied quantiles left the spline no knots: score by one indicator per value instead."""
+    values = values_score(counts, table.linear)
+    if values is None:
+        return result
+    shape = curve_shape(values.values, values.log_odds)
+    return replace(
+        result,
+        score=values.chi2,
+        df=values.df,
+        p_value=values.p_value,
+        score_test=VALUES_TEST,
+        shape=shape,
     )
 
 
@@ -216,6 +252,10 @@ class ReducedColumn:
     """Covariates in every fit."""
     weight: str | None = None
     """Weight column, if any."""
+    present_events: int | None = None
+    """Event rows among the ``present`` rows (rows, not weights)."""
+    weight_kind: str | None = None
+    """``frequency`` or ``survey`` when weighted."""
 
 
 def reduce_for_scan(
@@ -244,9 +284,11 @@ def reduce_for_scan(
     design = adjust.covariates_for(column)
     if design is not None:
         used &= design.complete
-        counts = rows_with_covariates(x, y, design.matrix, adjust.weights)
+    weights = adjust.weights_over(used)
+    if design is not None:
+        counts = rows_with_covariates(x, y, design.matrix, weights)
     else:
-        counts = reduce_column(x, y, weights=adjust.weights, max_levels=settings.max_levels)
+        counts = reduce_column(x, y, weights=weights, max_levels=settings.max_levels)
     return ReducedColumn(
         counts,
         rows,
@@ -255,6 +297,8 @@ def reduce_for_scan(
         int(used.sum()),
         adjust.adjusted_for(column),
         adjust.weight_column,
+        int(np.count_nonzero(np.asarray(y)[used] == 1)),
+        adjust.weight_kind,
     )
 
 
@@ -286,6 +330,15 @@ def scan_reduced(
     )
     if reduced.adjusted_for or reduced.weight:
         result = replace(result, adjusted_for=reduced.adjusted_for, weight=reduced.weight)
+    if reduced.present_events is not None:  # n and events both count rows
+        result = replace(result, events=reduced.present_events)
+    if reduced.weight:
+        result = replace(
+            result,
+            weight_kind=reduced.weight_kind,
+            weighted_n=reduced.counts.rows,
+            weighted_events=reduced.counts.total_events,
+        )
     return result, table
 
 

@@ -5,7 +5,11 @@ from __future__ import annotations
 import numpy as np
 
 LINEAR, MONOTONE, U_SHAPE, THRESHOLD = "linear", "monotone-curve", "u-shape", "threshold"
-SHAPES = (LINEAR, MONOTONE, U_SHAPE, THRESHOLD)
+HUMP = "hump"
+"""An inverted U (∩): the log-odds rise to an interior peak and fall again."""
+SHAPES = (LINEAR, MONOTONE, U_SHAPE, HUMP, THRESHOLD)
+TURNING = (U_SHAPE, HUMP)
+"""Shapes with an interior turn."""
 
 _TURN_SHARE = 0.25  # both arms of a turn must cover a quarter of the curve's rise
 _EDGE_SHARE = 0.10  # steepest point this close to an end: a bending curve, not a step
@@ -22,11 +26,11 @@ def curve_shape(grid: np.ndarray, log_odds: np.ndarray) -> str:
     if rise < 1e-9:
         return LINEAR
     low, high = int(np.argmin(f)), int(np.argmax(f))
-    for turn, sign in ((low, 1.0), (high, -1.0)):
+    for turn, sign, word in ((low, 1.0, U_SHAPE), (high, -1.0, HUMP)):
         left = sign * (f[0] - f[turn])
         right = sign * (f[-1] - f[turn])
         if 0 < turn < f.size - 1 and min(left, right) >= _TURN_SHARE * rise:
-            return U_SHAPE
+            return word
     slope = np.abs(np.diff(f) / np.diff(grid))
     peak = int(np.argmax(slope))
     edge = max(1, int(_EDGE_SHARE * slope.size))

@@ -19,6 +19,8 @@ MARKS = (
     "! flagged (see the flags field).",
     "Plot: ● empirical logit of a quantile group at its median, │ ±1.96 standard errors, "
     "· · · linear fit, braille line the highlighted form.",
+    "Shape hints: linear · monotone-curve · u-shape (lowest inside the range) · hump "
+    "(highest inside: an inverted U) · threshold (a step). A hint, not a verdict.",
     "q-values and shape hints read … until every column is scanned.",
     "adj (once a score is adjusted): - unadjusted, +N adjusted for N columns, named under "
     "the list. The working model: every column accepted or kept linear, in its form, and "

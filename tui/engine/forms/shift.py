@@ -2,17 +2,18 @@
 
 from __future__ import annotations
 
-import numpy as np
-
 from tui.engine.counts import ReducedCounts
 
 
 def learn_shift(counts: ReducedCounts) -> float:
-    """0 when min(x) > 0, else -min(x) plus the smallest gap between distinct values."""
-    xs = np.unique(counts.x)
-    if xs.size == 0 or xs[0] > 0:
+    """0 when min(x) > 0, else -min(x) plus the smallest gap between distinct values.
+
+    Both come from the column's rows (a binned column's first bin mean lies above its
+    minimum, and bin means lie further apart than its values), so every training row maps
+    above 0.
+    """
+    low = counts.minimum
+    if low is None or low > 0:
         return 0.0
-    gaps = np.diff(xs)
-    gaps = gaps[gaps > 0]
-    delta = float(gaps.min()) if gaps.size else 1.0
-    return float(-xs[0] + delta)
+    gap = counts.smallest_gap
+    return float(-low + (1.0 if gap is None else gap))

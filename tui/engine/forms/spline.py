@@ -1,6 +1,7 @@
 """Restricted (natural) cubic spline with k knots (Stone & Koo 1985; Harrell 2015).
 
-Linear beyond the outer knots. Outputs: x, then k - 2 non-linear columns
+Linear beyond the outer knots, and evaluated that way (see ``spline_basis``). Outputs: x,
+then k - 2 non-linear columns
 [(x-t_j)+^3 - (x-t_{k-1})+^3 (t_k-t_j)/(t_k-t_{k-1}) + (x-t_k)+^3 (t_{k-1}-t_j)/(t_k-t_{k-1})]
 / (t_k-t_1)^2, j = 1..k-2. Knots sit at fixed percentiles of x (Harrell 2015, §2.4.6).
 """
@@ -37,25 +38,30 @@ DEFAULT_KNOTS = 4
 def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
     """x and the k - 2 restricted cubic columns (rows × (k - 1)).
 
-    Computed as (t_k - t_1) * ((x - t) / (t_k - t_1))^3, the same number as
-    (x - t)^3 / (t_k - t_1)^2, so that cubes of values near 1e200 do not overflow.
+    Each column is evaluated piece by piece so that no two large cubes cancel: below
+    t_{k-1} only (x - t_j)+^3 terms appear, bounded by (t_k - t_1)^3; beyond the last knot the
+    column is exactly linear, (t_k - t_j)(t_{k-1} - t_j)(2 t_k - t_j - t_{k-1} + 3 (x - t_k)),
+    the cubic and quadratic parts of the published formula cancelling in closed form (the
+    subtraction of cubes leaves an error of order x^3 times machine precision). All is
+    divided by (t_k - t_1)^2, cubes as (t_k - t_1) ((x - t) / (t_k - t_1))^3, so that values
+    near 1e200 neither overflow nor cancel.
     """
     t = np.asarray(knots, dtype=float)
     k = t.size
     span = t[-1] - t[0]
     last, penult = t[-1], t[-2]
+    beyond = x >= last
+    xin = np.where(beyond, last, x)  # inside pieces only see x up to the last knot
 
     def cube(c: float) -> np.ndarray:
-        return np.maximum((x - c) / span, 0.0) ** 3
+        return np.maximum((xin - c) / span, 0.0) ** 3
 
     cols = [x]
     for j in range(k - 2):
-        term = (
-            cube(t[j])
-            - cube(penult) * (last - t[j]) / (last - penult)
-            + cube(last) * (penult - t[j]) / (last - penult)
-        )
-        cols.append(term * span)
+        inside = cube(t[j]) - cube(penult) * (last - t[j]) / (last - penult)
+        tail = (last - t[j]) / span * (penult - t[j]) / span
+        tail = tail * (2.0 * last - t[j] - penult + 3.0 * (x - last))
+        cols.append(np.where(beyond, tail, inside * span))
     return np.column_stack(cols)
 
 
@@ -97,6 +103,7 @@ class SplineKind(Kind):
         t = [float(v) for v in params["knots"]]
         last, penult = t[-1], t[-2]
         span = sql_number(last - t[0])
+        top = sql_number(last)
 
         def cube(c: float) -> str:  # the same scaled cube as spline_basis
             return f"POWER(GREATEST(({x} - {sql_number(c)}) / {span}, 0.0), 3)"
@@ -104,8 +111,20 @@ class SplineKind(Kind):
         out = [x]
         for j in range(len(t) - 2):
             a = sql_number((last - t[j]) / (last - penult))
-            b = sql_number((penult - t[j]) / (last - penult))
-            out.append(f"(({cube(t[j])} - {cube(penult)} * {a} + {cube(last)} * {b}) * {span})")
+            # Beyond the last knot the column is linear (see spline_basis): no cubes cancel.
+            slope = sql_number(
+                3.0 * (last - t[j]) / (last - t[0]) * (penult - t[j]) / (last - t[0])
+            )
+            at_top = sql_number(
+                (last - t[j])
+                / (last - t[0])
+                * (penult - t[j])
+                / (last - t[0])
+                * (2 * last - t[j] - penult)
+            )
+            inside = f"(({cube(t[j])} - {cube(penult)} * {a}) * {span})"
+            tail = f"{at_top} + {slope} * ({x} - {top})"
+            out.append(f"(CASE WHEN {x} >= {top} THEN {tail} ELSE {inside} END)")
         return out
 
 

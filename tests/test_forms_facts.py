@@ -132,7 +132,7 @@ def test_words_are_the_kinds_own():
 
 def test_recorded_fp2_with_power_one_gets_its_lr_test(rng):
     # Defect: nesting was guessed from the output suffix, so FP2 (1, 2) had no LR p-value.
-    # Reference library: statsmodels GLM Binomial fits of [1, x] and [1, x, x²] (R11).
+    # Reference library: statsmodels GLM Binomial fits of [1, x] and [1, x, x²].
     x = rng.uniform(0.5, 6.0, 1500)
     y = _logistic(rng, x, 0.4 * (x - 3) ** 2 - 1)
     counts = reduce_column(x, y)

@@ -1,17 +1,18 @@
 """Benjamini-Hochberg q-values."""
 
 import numpy as np
+from statsmodels.stats.multitest import multipletests
 
 from tui.engine.qvalues import bh_qvalues
 
 
 def test_published_small_example():
-    # R9: Benjamini & Hochberg (1995), JRSS B 57(1); values worked by hand.
+    # Benjamini & Hochberg (1995), JRSS B 57(1); values worked by hand.
     np.testing.assert_allclose(bh_qvalues([0.01, 0.04, 0.03, 0.005]), [0.02, 0.04, 0.04, 0.02])
 
 
 def test_equals_the_step_up_definition(rng):
-    # R9: Benjamini & Hochberg (1995): q_i = min over p_j >= p_i of m p_j / rank_j, capped
+    # Benjamini & Hochberg (1995): q_i = min over p_j >= p_i of m p_j / rank_j, capped
     # at 1, written out directly here (the engine calls statsmodels' multipletests).
     p = rng.uniform(0, 1, 200) ** 3
     m = p.size

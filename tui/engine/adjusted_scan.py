@@ -43,6 +43,8 @@ from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import SPLINE
 from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint, scan_column
 from tui.engine.shape import curve_shape
+from tui.engine.values_test import SPLINE_TEST
+from tui.intake.weights import SURVEY
 
 LEARN_WITHOUT_FITS = frozenset({"linear", "log", "quadratic", "spline", "bands"})
 """Kinds whose candidates learn their numbers from counts alone (no search of fits)."""
@@ -82,7 +84,12 @@ class AdjustedScanner:
         self._blocks: dict[tuple[str, ...], CovariateBlock] = {}
 
     def handles(self, column: str) -> bool:
-        """The column has covariates to be adjusted for (else the counts path serves it)."""
+        """The column has covariates to be adjusted for (else the counts path serves it).
+
+        Survey weights are rescaled over each column's own rows, so their covariate block
+        cannot be shared: such columns take the row-level path."""
+        if self.adjust.weights is not None and self.adjust.weight_kind == SURVEY:
+            return False
         return self.adjust.covariates_for(column) is not None
 
     def block(self, column: str) -> CovariateBlock:
@@ -216,7 +223,7 @@ class _Column:
             rows=rows,
             n=n,
             missing=rows - n,
-            events=int(round(counts.total_events)),
+            events=int(np.count_nonzero(self.rows.events > 0)),  # rows, like n
             distinct=counts.distinct_values,
             flags=tuple(flags),
             minimum=counts.minimum,
@@ -224,6 +231,9 @@ class _Column:
             exact=True,
             adjusted_for=adjust.adjusted_for(self.column),
             weight=adjust.weight_column,
+            weight_kind=None if adjust.weights is None else adjust.weight_kind,
+            weighted_n=None if adjust.weights is None else counts.rows,
+            weighted_events=None if adjust.weights is None else counts.total_events,
         )
 
     def _fit(self, kind: str, recoding: Recoding) -> LogisticFit:
@@ -364,6 +374,7 @@ class _Column:
             score=spline.lr_chi2,
             df=spline.lr_df,
             p_value=spline.lr_p,
+            score_test=SPLINE_TEST,
             shape=curve_shape(grid, spline.log_odds(grid)),
         )
 

@@ -183,7 +183,7 @@ class InspectScreen(Screen[str]):
             self._want_key = None
         self._refresh_heading()
         self._refresh_row()
-        missing_hooks.show_panel(self, fits)
+        missing_hooks.show_panel(self, self.session, self.column, fits)
 
     def _accepted(self) -> Recoding | None:
         decision = self.session.log.decision_for(self.column)
@@ -429,7 +429,7 @@ class InspectScreen(Screen[str]):
 
     def action_code_missing(self) -> None:
         """Choose how the accepted form codes a missing x (leave, fill, fill + indicator)."""
-        missing_hooks.open_choice(self)
+        missing_hooks.open_choice(self, self.session, self.column, self._after_change)
 
     def action_decisions(self) -> None:
         """Open the recoding log."""

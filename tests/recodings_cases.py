@@ -15,7 +15,7 @@ import pandas as pd
 from conftest import GOLDEN, SAMPLE, UPDATE_GOLDEN
 
 from tui import __version__
-from tui.engine.forms import Recoding, make_recoding
+from tui.engine.forms import MissingFill, Recoding, make_recoding
 from tui.recodings import Decision, RecodingLog, SetAside, SourceInfo
 
 TRAINING = SAMPLE / "surgical_cohort.csv"
@@ -51,6 +51,20 @@ EVERY_KIND: list[tuple[str, Recoding, tuple[float, float]]] = [
     ("hba1c_pct", make_recoding("indicator", {"cut": 6.5}), (4.2, 13.5)),
     ("incision_length_cm", make_recoding("bands", {"edges": [5.0, 9.5, 15.0]}), (2.0, 40.0)),
     ("haemoglobin_g_l", make_recoding("linear", {}, clip=(90.0, 170.0)), (70.0, 185.0)),
+    # Missing-value handling: a fill alone, a fill with an indicator, a fill beyond the clip.
+    ("height_cm", make_recoding("linear", {}, missing=MissingFill(170.0)), (140.0, 205.0)),
+    (
+        "potassium_mmol_l",
+        make_recoding(
+            "spline", {"knots": [3.6, 4.1, 4.6]}, clip=(3.0, 5.5), missing=MissingFill(6.0, True)
+        ),
+        (2.8, 6.0),
+    ),
+    (
+        "days_since_prior_admission",
+        make_recoding("log", {"shift": 1.0}, missing=MissingFill(365.0, True)),
+        (1.0, 730.0),
+    ),
 ]
 
 
@@ -113,6 +127,23 @@ def assert_same_outputs(python: pd.DataFrame, database: pd.DataFrame, names: lis
         np.testing.assert_allclose(ours, theirs, rtol=1e-9, atol=1e-9, err_msg=name)
 
 
+def assert_missing_rows(rows: pd.DataFrame, log: RecodingLog) -> None:
+    """Rows whose x is missing everywhere: outputs missing unless the recoding fills them;
+    a filled output equals the output of the fill itself, and the indicator is 1."""
+    for decision in log.decisions:
+        outputs = rows[list(decision.outputs)].to_numpy(dtype=float)
+        rule = decision.recoding.missing
+        if rule is None:
+            assert np.isnan(outputs).all(), decision.column
+            continue
+        expected = decision.recoding.apply(np.array([rule.fill]))[0]
+        if rule.indicator:
+            expected[-1] = 1.0
+        np.testing.assert_allclose(
+            outputs, np.tile(expected, (len(rows), 1)), rtol=1e-9, err_msg=decision.column
+        )
+
+
 def edge_values(log: RecodingLog) -> list[float]:
     """Every number in the log, a step either side of it, and values where logs break."""
     numbers = {-20.0, -12.0, -11.999, 0.0, 1e-9, 1.0, 500.0}
@@ -125,4 +156,6 @@ def edge_values(log: RecodingLog) -> list[float]:
                 numbers.add(params[key])
         if decision.recoding.clip:
             numbers.update(decision.recoding.clip)
+        if decision.recoding.missing:
+            numbers.add(decision.recoding.missing.fill)
     return sorted({v + d for v in numbers for d in (-1e-6, 0.0, 1e-6)})

@@ -16,6 +16,7 @@ from recodings_cases import (
     FRESH,
     OUTCOME,
     TRAINING,
+    assert_missing_rows,
     assert_same_outputs,
     edge_values,
     every_kind_log,
@@ -24,7 +25,7 @@ from recodings_cases import (
 
 from tui import recodings
 from tui.cli.main import main
-from tui.engine.forms import make_recoding
+from tui.engine.forms import MissingFill, make_recoding
 from tui.intake import read_table
 from tui.recodings import Decision, RecodingLog, SourceInfo
 
@@ -103,7 +104,7 @@ def test_cut_points_knots_clip_bounds_and_stored_nan_and_infinity(cohort_db, tmp
     )
     python = recodings.apply_to_frame(log, frame)
     assert_same_outputs(python, database, output_columns(log))
-    assert database.iloc[-4:][output_columns(log)].isna().all().all()
+    assert_missing_rows(database.iloc[-4:], log)  # filled where the log says so
     assert database["weight_change_kg__log"].isna().sum() > len(specials)  # non-positive x
 
 
@@ -123,3 +124,37 @@ def test_odd_column_and_table_names_are_quoted_safely(cohort_db, tmp_path, capsy
     python = recodings.apply_to_frame(log, frame)
     assert list(database.columns) == list(python.columns)
     assert_same_outputs(python, database, output_columns(log))
+
+
+def test_missing_fill_and_indicator_for_null_nan_and_infinity(cohort_db, tmp_path, capsys):
+    # A fill alone and a fill with an indicator, over NULL and stored NaN and ±infinity.
+    log = RecodingLog(
+        OUTCOME,
+        1,
+        SourceInfo("t.csv", 5, "0" * 64),
+        (
+            Decision.make(
+                "x",
+                make_recoding("hinge", {"knot": 2.0}, (0.0, 5.0), MissingFill(6.0, True)),
+                (0, 9),
+            ),
+            Decision.make(
+                "z", make_recoding("log", {"shift": 0.5}, None, MissingFill(1.5)), (0, 9)
+            ),
+        ),
+    )
+    cohort_db.execute("DROP TABLE IF EXISTS filled")
+    cohort_db.execute(
+        "CREATE TABLE filled AS SELECT * FROM (VALUES (1, 1.0::float8, NULL::float8),"
+        " (2, 'NaN'::float8, 'Infinity'::float8), (3, '-Infinity'::float8, 2.0::float8),"
+        " (4, NULL::float8, 'NaN'::float8), (5, 3.0::float8, '-Infinity'::float8)) AS v(id, x, z)"
+    )
+    text = printed_sql(log, tmp_path, capsys, "--table", "filled")
+    database = fetch(cohort_db, f"SELECT * FROM ({text}) AS replayed ORDER BY id")
+    frame = pd.DataFrame(
+        {"x": [1.0, np.nan, -np.inf, np.nan, 3.0], "z": [np.nan, np.inf, 2.0, np.nan, -np.inf]}
+    )
+    python = recodings.apply_to_frame(log, frame)
+    assert_same_outputs(python, database, output_columns(log))
+    assert database["x__missing"].tolist() == [0.0, 1.0, 1.0, 1.0, 0.0]
+    assert not database[output_columns(log)].isna().to_numpy().any()

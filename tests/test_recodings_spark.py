@@ -17,6 +17,7 @@ from recodings_cases import (
     FRESH,
     OUTCOME,
     TRAINING,
+    assert_missing_rows,
     assert_same_outputs,
     edge_values,
     every_kind_log,
@@ -25,7 +26,7 @@ from recodings_cases import (
 
 from tui import recodings
 from tui.cli.main import main
-from tui.engine.forms import make_recoding
+from tui.engine.forms import MissingFill, make_recoding
 from tui.intake import read_table
 from tui.recodings import Decision, RecodingLog, SourceInfo
 from tui.recodings.sql import DIALECTS
@@ -101,7 +102,7 @@ def test_cut_points_knots_clip_bounds_and_stored_nan_and_infinity(cohort, tmp_pa
     )
     python = recodings.apply_to_frame(log, frame)
     assert_same_outputs(python, database, output_columns(log))
-    assert database.iloc[-4:][output_columns(log)].isna().all().all()
+    assert_missing_rows(database.iloc[-4:], log)  # filled where the log says so
     assert database["weight_change_kg__log"].isna().sum() > 4  # non-positive shifted x
 
 
@@ -136,3 +137,38 @@ def test_a_backtick_in_a_view_name_is_refused_because_spark_refuses_it(cohort, t
     done = run_cli("sql", str(path), "--dialect", "spark", "--view", "ward.re`coded")
     assert done.returncode == 2 and done.stdout == ""
     assert "cannot hold '`' in a view name" in done.stderr
+
+
+def test_missing_fill_and_indicator_for_null_nan_and_infinity(cohort, tmp_path, capsys):
+    # A fill alone and a fill with an indicator, over NULL and stored NaN and ±infinity.
+    log = RecodingLog(
+        OUTCOME,
+        1,
+        SourceInfo("t.csv", 5, "0" * 64),
+        (
+            Decision.make(
+                "x",
+                make_recoding("hinge", {"knot": 2.0}, (0.0, 5.0), MissingFill(6.0, True)),
+                (0, 9),
+            ),
+            Decision.make(
+                "z", make_recoding("log", {"shift": 0.5}, None, MissingFill(1.5)), (0, 9)
+            ),
+        ),
+    )
+    x = [1.0, math.nan, -math.inf, None, 3.0]
+    z = [None, math.inf, 2.0, math.nan, -math.inf]
+    rows = [(i, a, b) for i, (a, b) in enumerate(zip(x, z, strict=True))]
+    cohort.createDataFrame(rows, "id BIGINT, x DOUBLE, z DOUBLE").createOrReplaceTempView("filled")
+    text = printed_sql(log, tmp_path, capsys, "--table", "filled")
+    database = collect(cohort.sql(text)).sort_values("id").reset_index(drop=True)
+    frame = pd.DataFrame(
+        {
+            "x": [math.nan if v is None else v for v in x],
+            "z": [math.nan if v is None else v for v in z],
+        }
+    )
+    python = recodings.apply_to_frame(log, frame)
+    assert_same_outputs(python, database, output_columns(log))
+    assert database["x__missing"].tolist() == [0.0, 1.0, 1.0, 1.0, 0.0]
+    assert not database[output_columns(log)].isna().to_numpy().any()

@@ -1,5 +1,5 @@
 -- bendwise recodings for outcome wound_infection_30d, learned on surgical_cohort.csv (5000 rows, sha256 4a3bdfbafbd7...)
--- dialect: spark; a missing x (NULL, NaN, infinite) gives NULL outputs
+-- dialect: spark; a missing x (NULL, NaN, infinite) gives NULL outputs unless its recoding fills it
 SELECT
   *,
   -- age_years: linear
@@ -48,5 +48,14 @@ SELECT
   CAST(CASE WHEN CAST(`incision_length_cm` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CASE WHEN CAST(`incision_length_cm` AS DOUBLE) IS NULL THEN NULL ELSE CASE WHEN CAST(`incision_length_cm` AS DOUBLE) >= 9.5 AND CAST(`incision_length_cm` AS DOUBLE) < 15.0 THEN 1.0 ELSE 0.0 END END END AS DOUBLE) AS `incision_length_cm__band2`,
   CAST(CASE WHEN CAST(`incision_length_cm` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CASE WHEN CAST(`incision_length_cm` AS DOUBLE) IS NULL THEN NULL ELSE CASE WHEN CAST(`incision_length_cm` AS DOUBLE) >= 15.0 THEN 1.0 ELSE 0.0 END END END AS DOUBLE) AS `incision_length_cm__band3`,
   -- haemoglobin_g_l: linear, clipped to [90, 170]
-  CAST(CASE WHEN CAST(`haemoglobin_g_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CASE WHEN CAST(`haemoglobin_g_l` AS DOUBLE) IS NULL THEN NULL ELSE LEAST(GREATEST(CAST(`haemoglobin_g_l` AS DOUBLE), 90.0), 170.0) END END AS DOUBLE) AS `haemoglobin_g_l__lin`
+  CAST(CASE WHEN CAST(`haemoglobin_g_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CASE WHEN CAST(`haemoglobin_g_l` AS DOUBLE) IS NULL THEN NULL ELSE LEAST(GREATEST(CAST(`haemoglobin_g_l` AS DOUBLE), 90.0), 170.0) END END AS DOUBLE) AS `haemoglobin_g_l__lin`,
+  -- height_cm: linear, missing as 170
+  CAST((CASE WHEN CAST(`height_cm` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`height_cm` AS DOUBLE) ELSE 170.0 END) AS DOUBLE) AS `height_cm__lin`,
+  -- potassium_mmol_l: spline, 3 knots, clipped to [3, 5.5], missing as 6 + indicator
+  CAST(LEAST(GREATEST((CASE WHEN CAST(`potassium_mmol_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`potassium_mmol_l` AS DOUBLE) ELSE 6.0 END), 3.0), 5.5) AS DOUBLE) AS `potassium_mmol_l__lin`,
+  CAST(((POWER(GREATEST((LEAST(GREATEST((CASE WHEN CAST(`potassium_mmol_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`potassium_mmol_l` AS DOUBLE) ELSE 6.0 END), 3.0), 5.5) - 3.6) / 0.9999999999999996, 0.0), 3) - POWER(GREATEST((LEAST(GREATEST((CASE WHEN CAST(`potassium_mmol_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`potassium_mmol_l` AS DOUBLE) ELSE 6.0 END), 3.0), 5.5) - 4.1) / 0.9999999999999996, 0.0), 3) * 1.9999999999999991 + POWER(GREATEST((LEAST(GREATEST((CASE WHEN CAST(`potassium_mmol_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`potassium_mmol_l` AS DOUBLE) ELSE 6.0 END), 3.0), 5.5) - 4.6) / 0.9999999999999996, 0.0), 3) * 0.9999999999999991) * 0.9999999999999996) AS DOUBLE) AS `potassium_mmol_l__rcs1`,
+  CAST(CASE WHEN CAST(`potassium_mmol_l` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN 0.0 ELSE 1.0 END AS DOUBLE) AS `potassium_mmol_l__missing`,
+  -- days_since_prior_admission: log, shift 1, missing as 365 + indicator
+  CAST(CASE WHEN (((CASE WHEN CAST(`days_since_prior_admission` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`days_since_prior_admission` AS DOUBLE) ELSE 365.0 END)) + 1.0) > 0 THEN LN((((CASE WHEN CAST(`days_since_prior_admission` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST(`days_since_prior_admission` AS DOUBLE) ELSE 365.0 END)) + 1.0)) END AS DOUBLE) AS `days_since_prior_admission__log`,
+  CAST(CASE WHEN CAST(`days_since_prior_admission` AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN 0.0 ELSE 1.0 END AS DOUBLE) AS `days_since_prior_admission__missing`
 FROM `surgical_cohort`

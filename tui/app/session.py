@@ -13,6 +13,14 @@ from tui.app.basis import Adjustments, Basis
 from tui.app.view_state import ReviewView
 from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit
+from tui.engine.forms.base import MissingFill
+from tui.engine.missing_group import (
+    FillComparison,
+    MissingGroup,
+    compare_fills,
+    missing_group,
+    training_median,
+)
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
@@ -233,6 +241,25 @@ class ReviewSession:
             self.evidence(column, row, groups, knots, by_hand, basis),
             {str(c) for c in self.dataset.column_names},
         )
+
+    def missing_group(self, column: str) -> MissingGroup | None:
+        """The column's rows with a missing x, as a group (None when none is missing)."""
+        return missing_group(self.dataset.raw_values(column), self.dataset.outcome.y)
+
+    def fill_comparison(self, column: str, fill: float | None = None) -> FillComparison | None:
+        """The accepted form with a fill (default the training median), without and with a
+        missing indicator, on every row with an outcome; None when nothing is missing or
+        the column is undecided."""
+        decision = self.log.decision_for(column)
+        if decision is None:
+            return None
+        x = self.dataset.raw_values(column)
+        fill = training_median(x) if fill is None else fill
+        return compare_fills(decision.recoding, x, self.dataset.outcome.y, fill)
+
+    def set_missing(self, column: str, rule: MissingFill | None) -> Decision:
+        """Code the decided column's missing values by ``rule`` and save. Raises LogNotSaved."""
+        return self.book.set_missing(column, rule, {str(c) for c in self.dataset.column_names})
 
     def set_aside(self, column: str, note: str | None = None) -> SetAside:
         """Record that the column is not to be used, and save the log."""

@@ -39,5 +39,6 @@ def fit_recoding(
     recoding: Recoding, counts: ReducedCounts, linear: FormFit, title: str | None = None
 ) -> FormFit:
     """Fit a fixed recoding to counts and compare it with the linear row; whether a
-    likelihood-ratio test applies is the kind's to say (``Kind.nests_linear``)."""
-    return fit_candidate(FixedCandidate(recoding, title), counts, linear)
+    likelihood-ratio test applies is the kind's to say (``Kind.nests_linear``). The counts
+    hold complete cases only, so a missing-value fill is left out of this fit."""
+    return fit_candidate(FixedCandidate(recoding.without_missing(), title), counts, linear)

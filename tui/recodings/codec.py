@@ -21,6 +21,7 @@ from tui.engine.forms.base import RecodingError
 from tui.engine.forms.registry import make_recoding
 from tui.recodings.errors import EntryProblem
 from tui.recodings.evidence import Evidence
+from tui.recodings.missing_entry import check_indicator, missing_entry, missing_fill
 from tui.recodings.model import (
     FORMAT,
     FORMAT_VERSION,
@@ -31,7 +32,9 @@ from tui.recodings.model import (
 )
 
 # RecodingError messages start with the field they blame ("params.knots must be ...").
-_BLAMED_FIELD = re.compile(r"^(params(?:\.\w+)?(?:\[\d+\])?|clip|kind)\s+(.*)$", re.DOTALL)
+_BLAMED_FIELD = re.compile(
+    r"^(params(?:\.\w+)?(?:\[\d+\])?|clip|kind|missing\.\w+)\s+(.*)$", re.DOTALL
+)
 
 
 def to_document(log: RecodingLog) -> dict[str, Any]:
@@ -64,6 +67,8 @@ def _decision_entry(decision: Decision, index: int) -> dict[str, Any]:
     }
     if recoding.clip is not None:
         entry["clip"] = [float(recoding.clip[0]), float(recoding.clip[1])]
+    if recoding.missing is not None:
+        entry["missing"] = missing_entry(decision, f"{where}.missing")
     entry.update(
         outputs=list(decision.outputs),
         range=[float(decision.range[0]), float(decision.range[1])],
@@ -133,6 +138,7 @@ def _decision(item: Mapping[str, Any], index: int) -> Decision:
             item["kind"],
             dict(item["params"]),
             None if clip is None else (float(clip[0]), float(clip[1])),
+            missing_fill(item.get("missing")),
         )
         recoding.validate()
     except RecodingError as problem:
@@ -147,6 +153,7 @@ def _decision(item: Mapping[str, Any], index: int) -> Decision:
             f"{where}.outputs",
             f"{recoding.describe()} gives {expected} output(s) but {len(outputs)} are named",
         )
+    check_indicator(item.get("missing"), outputs, item["column"], f"{where}.missing.indicator")
     low, high = (float(v) for v in item["range"])
     if low > high:
         raise EntryProblem(f"{where}.range", f"training minimum {low} exceeds maximum {high}")

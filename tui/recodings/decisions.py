@@ -14,7 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from tui.engine.compare import FormFit
-from tui.engine.forms.base import Recoding
+from tui.engine.forms.base import MissingFill, Recoding
 from tui.engine.scan import ColumnScan
 from tui.paths import same_file
 from tui.problems import InputProblem
@@ -170,7 +170,8 @@ class DecisionBook:
         decision = self.log.decision_for(column)
         if decision is None:
             return UNDECIDED
-        if decision.recoding.kind == "linear" and decision.recoding.clip is None:
+        recoding = decision.recoding
+        if recoding.kind == "linear" and recoding.clip is None and recoding.missing is None:
             return KEPT_LINEAR
         return decision.recoding.describe()
 
@@ -203,6 +204,27 @@ class DecisionBook:
         )
         self._commit(self.log.with_decision(decision))
         return decision
+
+    def set_missing(
+        self, column: str, rule: MissingFill | None, source_columns: set[str]
+    ) -> Decision:
+        """Change how the decided column's missing values are coded (None: leave them
+        missing) and save the log; the form, note and evidence stay as accepted."""
+        decision = self.log.decision_for(column)
+        if decision is None:
+            raise ValueError(f"{column} has no accepted form to code missing values for")
+        taken = source_columns | self.log.without(column).output_names()
+        changed = Decision.make(
+            column,
+            replace(decision.recoding, missing=rule),
+            decision.range,
+            note=decision.note,
+            evidence=decision.evidence,
+            taken=taken,
+        )
+        decisions = tuple(changed if d.column == column else d for d in self.log.decisions)
+        self._commit(replace(self.log, decisions=decisions))
+        return changed
 
     def set_aside(self, column: str, note: str) -> SetAside:
         """Record that the column is not to be used, and save the log."""

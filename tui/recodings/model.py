@@ -39,6 +39,12 @@ class Decision:
     evidence: Evidence = NOTHING
     """What was shown when it was accepted, and the design it was judged in."""
 
+    @property
+    def missing_indicator(self) -> str | None:
+        """The output that flags a missing x, when the recoding adds one (always last)."""
+        rule = self.recoding.missing
+        return self.outputs[-1] if rule is not None and rule.indicator else None
+
     @classmethod
     def make(
         cls,

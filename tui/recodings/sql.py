@@ -8,7 +8,9 @@ own arithmetic rules cannot change a result. LN, POWER, GREATEST and LEAST exist
 three dialects.
 
 Python replay treats NULL, NaN and ±infinity in x alike, as missing. Databases keep NaN and
-infinities as values, so every output is NULL unless x is one of the finite doubles. The
+infinities as values, so every output is NULL unless x is one of the finite doubles; a
+recoding with a missing-value fill puts the fill in place of every other x (the same test
+decides), and its indicator is 1 exactly there. The
 test compares x with the three special values: all three dialects treat NaN as equal to
 itself, so ``NOT IN`` catches it, and NULL x makes the test NULL, hence a NULL output.
 
@@ -110,7 +112,12 @@ def to_sql(
         f"-- bendwise recodings for outcome {_comment(log.outcome_column)}, learned on "
         f"{_comment(log.source.name)} ({log.source.rows} rows, "
         f"sha256 {_comment(log.source.sha256[:12])}...)",
-        f"-- dialect: {d.name}; a missing x (NULL, NaN, infinite) gives NULL outputs",
+        f"-- dialect: {d.name}; a missing x (NULL, NaN, infinite) gives NULL outputs"
+        + (
+            " unless its recoding fills it"
+            if any(dd.recoding.missing for dd in log.decisions)
+            else ""
+        ),
     ]
     if target is not None:
         lines.append(f"{d.create_view} {target} AS")
@@ -119,10 +126,12 @@ def to_sql(
     for decision in log.decisions:
         x = d.as_double(d.identifier(decision.column))
         finite = d.is_finite(x)
-        exprs = decision.recoding.sql(x, d.name)
+        exprs = decision.recoding.sql(x, d.name, finite)
         comment = f"  -- {_comment(decision.column)}: {decision.recoding.describe()}"
         for i, (name, expr) in enumerate(zip(decision.outputs, exprs, strict=True)):
-            guarded = f"CASE WHEN {finite} THEN {expr} END"
+            # A filled recoding has already replaced every missing x by its fill.
+            filled = decision.recoding.missing is not None
+            guarded = expr if filled else f"CASE WHEN {finite} THEN {expr} END"
             item = f"  {d.as_double(guarded)} AS {d.identifier(name)}"
             columns.append(f"{comment}\n{item}" if i == 0 else item)
     lines.append(",\n".join(columns))

@@ -24,12 +24,14 @@ from tui.problems import InputProblem
 from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
+from tui.report.missing_part import MissingPart, missing_part
 from tui.report.words import params_in_words
 
 DERIVED_FROM_VALUES = (
     "Numbers that derive from individual values: knots (quantiles of x), cut points and band "
     "edges (quantiles or values of x, or entered by hand), the shift of log and power forms "
-    "(the smallest value and the smallest gap between values), and group medians. The log "
+    "(the smallest value and the smallest gap between values), group medians, and a "
+    "missing-value fill (the training median, or typed). The log "
     "also stores each column's training minimum and maximum, which this report never prints."
 )
 
@@ -86,6 +88,7 @@ class DecisionSection:
     groups: tuple[GroupLine, ...]
     curve: Curve | None
     withheld_groups: int
+    missing: MissingPart | None = None
 
 
 @dataclass(frozen=True)
@@ -191,6 +194,7 @@ def _section(
         groups=tuple(lines),
         curve=curve,
         withheld_groups=withheld,
+        missing=missing_part(data, decision, min_cell),
     )
 
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 from html import escape
 
 from tui.report.content import DecisionSection, ReportContent
+from tui.report.missing_part import missing_sentences
 from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.svgplot import svg_plot
 
@@ -55,6 +56,9 @@ def _decision(d: DecisionSection) -> str:
         "<p>Dots: group empirical logits with ±1.96 SE; "
         "dashed: linear fit; solid: accepted form.</p>"
     )
+    if d.missing is not None:
+        text = " ".join(missing_sentences(d.missing)).replace("`", "")
+        parts.append(f"<p>{escape(text)}</p>")
     parts.append(f"<p><strong>Note:</strong> {escape(d.note or '(none recorded)')}</p>")
     return "\n".join(parts)
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from tui.report.content import DecisionSection, ReportContent
+from tui.report.missing_part import missing_sentences
 from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.textplot import text_plot
 
@@ -48,6 +49,8 @@ def _decision(d: DecisionSection) -> list[str]:
     ]
     out += _table(["group", "median x", "rows", "events", "non-events", "logit", "SE"], grows)
     out += ["", "```", text_plot(d.groups, d.curve), "```", ""]
+    if d.missing is not None:
+        out += [" ".join(missing_sentences(d.missing)), ""]
     out += [f"**Note:** {d.note or '(none recorded)'}", ""]
     return out
 

@@ -8,6 +8,7 @@ from collections.abc import Callable
 from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
+from textual.containers import Horizontal
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
@@ -15,6 +16,7 @@ from textual.worker import Worker, WorkerState, get_current_worker
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
 from tui.app.messages import FitsReady, ScoresChanged
 from tui.app.notices import not_saved, tell
+from tui.app.screens import missing_hooks
 from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
@@ -26,6 +28,7 @@ from tui.app.view_state import ReviewView
 from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
+from tui.app.widgets.missing_panel import MissingPanel
 from tui.cautions import CAUTIONS
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
@@ -42,6 +45,7 @@ GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
 CUT_TIP = "Type a cut point for an indicator"
 HINGE_TIP = "Type the knot of a hinge"
+MISSING_TIP = "Code a missing x for the accepted form: leave, fill, or fill + indicator"
 SHORT_BELOW = 32
 """Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
 
@@ -71,6 +75,7 @@ class InspectScreen(Screen[str]):
         Binding("c", "enter_cut", "Cut", tooltip=CUT_TIP, show=False),
         Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
+        Binding("f", "code_missing", "Missing", tooltip=MISSING_TIP, show=False),
     ]
 
     def __init__(self, session: ReviewSession, cache: FitCache, column: str) -> None:
@@ -87,7 +92,9 @@ class InspectScreen(Screen[str]):
         yield Line("", id="evidence")
         yield Line("", id="counts")
         yield Line("", id="adjusted")
-        yield LogitPlot(id="plot")
+        with Horizontal(id="picture"):
+            yield LogitPlot(id="plot")
+            yield MissingPanel(id="missing")
         yield Line("", id="legend")
         yield FormsTable(id="forms")
         yield Line("", id="notes")
@@ -142,6 +149,7 @@ class InspectScreen(Screen[str]):
             return
         if self.fits is None:  # a new column: nothing of the old one may stay on screen
             self.query_one(LogitPlot).draw(None, None)
+            self.query_one(MissingPanel).show_group(None, ())
             self.query_one("#legend", Line).update("")
             self.query_one("#caution", Line).update("")
         self.query_one("#notes", Line).update(f"fitting the candidate forms of {self.column}…")
@@ -175,6 +183,7 @@ class InspectScreen(Screen[str]):
             self._want_key = None
         self._refresh_heading()
         self._refresh_row()
+        missing_hooks.show_panel(self, self.session, self.column, fits)
 
     def _accepted(self) -> Recoding | None:
         decision = self.session.log.decision_for(self.column)
@@ -417,6 +426,10 @@ class InspectScreen(Screen[str]):
     def action_back(self) -> None:
         """Back to the list."""
         self.dismiss(self.column)
+
+    def action_code_missing(self) -> None:
+        """Choose how the accepted form codes a missing x (leave, fill, fill + indicator)."""
+        missing_hooks.open_choice(self, self.session, self.column, self._after_change)
 
     def action_decisions(self) -> None:
         """Open the recoding log."""

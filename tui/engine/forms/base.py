@@ -14,7 +14,7 @@ from __future__ import annotations
 import math
 from abc import ABC, abstractmethod
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, ClassVar
 
 import numpy as np
@@ -133,6 +133,10 @@ def words_shift(params: Mapping[str, Any]) -> str:
     return "" if s == 0 else f" after adding {words_number(s)} to every value"
 
 
+def _finite_number(value: Any) -> bool:
+    return isinstance(value, int | float) and math.isfinite(value)
+
+
 def check_number(params: Mapping[str, Any], key: str) -> float:
     """A finite real number stored under ``key``."""
     if key not in params:
@@ -168,6 +172,21 @@ def check_shift(params: Mapping[str, Any]) -> float:
     return shift
 
 
+INDICATOR_SUFFIX = "missing"
+"""Suffix of the missing-indicator output (``<column>__missing``)."""
+
+
+@dataclass(frozen=True)
+class MissingFill:
+    """How a recoding treats a missing or non-finite x: replaced by ``fill`` before the
+    clip and the kind apply, and with ``indicator`` one more output, 1 where x was missing."""
+
+    fill: float
+    """The value put in place of a missing x."""
+    indicator: bool = False
+    """Add a 0/1 output after the form's own outputs."""
+
+
 @dataclass(frozen=True)
 class Recoding:
     """A learned recoding: everything needed to apply it, as plain numbers."""
@@ -178,6 +197,8 @@ class Recoding:
     """Learned numbers (knots, shift, cut, edges, powers)."""
     clip: tuple[float, float] | None = None
     """When set, x is first limited to [lo, hi]."""
+    missing: MissingFill | None = None
+    """When set, a missing x is filled (and flagged) instead of giving missing outputs."""
 
     @property
     def kind(self) -> str:
@@ -191,23 +212,37 @@ class Recoding:
             lo, hi = self.clip
             if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi:
                 raise RecodingError("clip must be two finite numbers, low ≤ high")
+        fill = None if self.missing is None else self.missing.fill
+        if fill is not None and (isinstance(fill, bool) or not _finite_number(fill)):
+            raise RecodingError("missing.fill must be a finite number")
+
+    def without_missing(self) -> Recoding:
+        """The same recoding with missing x left missing (for complete-case fits)."""
+        return replace(self, missing=None)
 
     def apply(self, x: np.ndarray) -> np.ndarray:
-        """Output columns (rows × outputs); a missing x gives missing outputs."""
+        """Output columns (rows × outputs); a missing x gives missing outputs unless the
+        recoding fills it."""
         x = np.asarray(x, dtype=float)
+        was_missing = ~np.isfinite(x)
+        if self.missing is not None:
+            x = np.where(was_missing, float(self.missing.fill), x)
         present = np.isfinite(x)
-        out = np.full((x.size, len(self.suffixes())), np.nan)
+        out = np.full((x.size, len(self.form.suffixes(self.params))), np.nan)
         xv = x[present]
         if self.clip is not None:
             xv = np.clip(xv, self.clip[0], self.clip[1])
         if xv.size:
             with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
                 out[present] = self.form.apply(self.params, xv)
+        if self.missing is not None and self.missing.indicator:
+            out = np.column_stack([out, was_missing.astype(float)])
         return out
 
     def suffixes(self) -> list[str]:
-        """Suffixes of the output columns."""
-        return self.form.suffixes(self.params)
+        """Suffixes of the output columns (the missing indicator last, when there is one)."""
+        own = self.form.suffixes(self.params)
+        return own + [INDICATOR_SUFFIX] if self.missing and self.missing.indicator else own
 
     def outputs(self, column: str) -> list[str]:
         """Names of the output columns for source ``column``: ``<column>__<suffix>``."""
@@ -218,6 +253,9 @@ class Recoding:
         text = self.form.describe(self.params)
         if self.clip is not None:
             text += f", clipped to [{self.clip[0]:.6g}, {self.clip[1]:.6g}]"
+        if self.missing is not None:
+            text += f", missing as {self.missing.fill:.6g}"
+            text += " + indicator" if self.missing.indicator else ""
         return text
 
     def words(self) -> str:
@@ -226,14 +264,30 @@ class Recoding:
         if self.clip is not None:
             lo, hi = (words_number(v) for v in self.clip)
             text += f"; x first limited to [{lo}, {hi}]"
+        if self.missing is not None:
+            text += f"; a missing x counts as {words_number(self.missing.fill)}"
+            if self.missing.indicator:
+                text += ", and a 0/1 output is 1 where x was missing"
         return text
 
-    def sql(self, x: str, dialect: str = "duckdb") -> list[str]:
-        """One SQL expression per output, NULL when x is NULL."""
+    def sql(self, x: str, dialect: str = "duckdb", finite: str | None = None) -> list[str]:
+        """One SQL expression per output, NULL when x is NULL unless the recoding fills it.
+
+        ``finite`` is a condition true when x is a finite number (NULL or false otherwise);
+        a missing-value fill and indicator use it, ``x IS NOT NULL`` when not given.
+        """
         raw = x
+        if self.missing is not None:
+            test = finite or f"{x} IS NOT NULL"
+            x = f"(CASE WHEN {test} THEN {x} ELSE {sql_number(self.missing.fill)} END)"
         if self.clip is not None:
             lo, hi = sql_number(self.clip[0]), sql_number(self.clip[1])
             x = f"LEAST(GREATEST({x}, {lo}), {hi})"
+        if self.missing is not None:  # x is never NULL now, so no guard is needed
+            exprs = self.form.sql(self.params, x, dialect)
+            if self.missing.indicator:
+                exprs.append(f"CASE WHEN {test} THEN 0.0 ELSE 1.0 END")
+            return exprs
         # GREATEST and LEAST skip NULLs in most databases, so guard every output.
         return [
             f"CASE WHEN {raw} IS NULL THEN NULL ELSE {expr} END"

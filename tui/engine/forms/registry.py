@@ -6,7 +6,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from tui.engine.forms.bands import BANDS, BandsCandidate
-from tui.engine.forms.base import Candidate, Kind, Recoding, RecodingError
+from tui.engine.forms.base import Candidate, Kind, MissingFill, Recoding, RecodingError
 from tui.engine.forms.fracpoly import FP1, FP2, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.hinge import HINGE, HingeCandidate
 from tui.engine.forms.indicator import INDICATOR, IndicatorCandidate
@@ -21,12 +21,15 @@ KINDS: dict[str, Kind] = {
 
 
 def make_recoding(
-    key: str, params: Mapping[str, Any] | None = None, clip: tuple[float, float] | None = None
+    key: str,
+    params: Mapping[str, Any] | None = None,
+    clip: tuple[float, float] | None = None,
+    missing: MissingFill | None = None,
 ) -> Recoding:
     """The recoding of the kind logged as ``key``; RecodingError for an unknown key."""
     if key not in KINDS:
         raise RecodingError(f"kind {key!r} is unknown; known kinds: {', '.join(KINDS)}")
-    return Recoding(KINDS[key], dict(params or {}), clip)
+    return Recoding(KINDS[key], dict(params or {}), clip, missing)
 
 
 def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Candidate]:

@@ -79,14 +79,21 @@ class TwoPassScan:
         self._queue: list[str] = []
         self._reduced: dict[str, ReducedColumn] = {}
         self._first_results: dict[str, ColumnScan] = {}
+        self._names = set(self.columns)
+        self._ordered = False  # the second pass's queue is built
+        self._jumped: list[str] = []  # asked for during the first pass, latest first
 
     def prioritise(self, column: str) -> bool:
-        """Fit this column's forms next; False when it is not waiting for them."""
+        """Fit this column's forms next (also when asked during the first pass); False
+        when the column is not in the scan or its forms are already fitted or fitting."""
         with self._lock:
-            if column not in self._queue:
+            if column in self._queue:
+                self._queue.remove(column)
+                self._queue.insert(0, column)
+                return True
+            if self._ordered or column not in self._names:
                 return False
-            self._queue.remove(column)
-            self._queue.insert(0, column)
+            self._jumped = [column] + [c for c in self._jumped if c != column]
             return True
 
     def __iter__(self) -> Iterator[ScanStep]:
@@ -97,8 +104,9 @@ class TwoPassScan:
                 for name in self.columns:
                     reduced = self._reduce(name)
                     scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
+                    if len(scored) == total:
+                        self._order(scored)
                     yield ScanStep("score", scored[-1], len(scored), total)
-                self._order(scored)
                 for done, name in enumerate(iter(self._next, None), start=1):
                     yield ScanStep("forms", self._second(name), done, total)
             return
@@ -138,8 +146,9 @@ class TwoPassScan:
                         name, self._reduced[name] if reduced is None else reduced, scan
                     )
                     scored.append(kept)
+                    if len(scored) == total:
+                        self._order(scored)
                     yield ScanStep("score", kept, len(scored), total)
-            self._order(scored)
             second: dict[Future[ColumnScan], str] = {}
             finished = 0
             while True:
@@ -169,14 +178,19 @@ class TwoPassScan:
 
     def _keep(self, name: str, reduced: ReducedColumn, scan: ColumnScan) -> ColumnScan:
         """The first pass keeps each column's counts and result for the second."""
-        self._reduced[name] = reduced
-        self._first_results[name] = scan
+        with self._lock:
+            self._reduced[name] = reduced
+            self._first_results[name] = scan
         return scan
 
     def _order(self, scored: list[ColumnScan]) -> None:
-        """Second-pass queue: most non-linear first (the first pass's ranking)."""
+        """Second-pass queue: columns asked for first, then most non-linear first (the
+        first pass's ranking)."""
         with self._lock:
-            self._queue = [s.column for s in rank(scored)]
+            jumped = [c for c in self._jumped if c in self._first_results]
+            rest = [s.column for s in rank(scored) if s.column not in jumped]
+            self._queue = jumped + rest
+            self._ordered = True
 
     def _next(self) -> str | None:
         with self._lock:

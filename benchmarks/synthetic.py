@@ -81,15 +81,24 @@ def plan(cols: int) -> list[Planted]:
     return out
 
 
-def make_extract(rows: int, cols: int, seed: int = SEED) -> tuple[pd.DataFrame, list[Planted]]:
-    """The extract (predictors, then the 0/1 outcome) and the planted truth."""
+def make_extract(
+    rows: int, cols: int, seed: int = SEED, strength: float | None = None
+) -> tuple[pd.DataFrame, list[Planted]]:
+    """The extract (predictors, then the 0/1 outcome) and the planted truth.
+
+    With ``strength``, each planted effect is centred and multiplied by it, so that
+    thousands of columns do not add up to log-odds where every row is an event.
+    """
     rng = np.random.default_rng(seed)
     planted = plan(cols)
     data: dict[str, np.ndarray] = {}
     log_odds = np.full(rows, -1.2)
     for column in planted:
         x = _values(column.kind, rows, rng)
-        log_odds += _effect(column.effect, x)
+        effect = _effect(column.effect, x)
+        if strength is not None:
+            effect = strength * (effect - effect.mean())
+        log_odds += effect
         data[column.name] = x
     data[OUTCOME] = (rng.random(rows) < 1.0 / (1.0 + np.exp(-log_odds))).astype(np.int8)
     return pd.DataFrame(data), planted

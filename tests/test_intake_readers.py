@@ -202,13 +202,15 @@ def test_read_column_on_parquet_reads_only_that_column(tmp_path: Path, monkeypat
     path = tmp_path / "seedlings.parquet"
     write_parquet(SEEDLINGS, path)
     asked: list[object] = []
-    real = pd.read_parquet
+    import pyarrow.parquet as pq
 
-    def spy(*args, **kwargs):
+    real = pq.ParquetFile.read
+
+    def spy(self, *args, **kwargs):  # the file is kept open, its footer read once
         asked.append(kwargs.get("columns"))
-        return real(*args, **kwargs)
+        return real(self, *args, **kwargs)
 
-    monkeypatch.setattr(readers_module.pd, "read_parquet", spy)
+    monkeypatch.setattr(pq.ParquetFile, "read", spy)
     height = read_column(path, "height")
     assert isinstance(height, pd.Series)
     assert height.tolist() == SEEDLINGS["height"].tolist()

@@ -10,13 +10,17 @@ from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import as_csv, as_json, as_table
-from tui.engine.adjust import open_adjustment
+from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
+from tui.engine.two_pass import TwoPassScan
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
 from tui.paths import same_file
 from tui.problems import InputProblem
+
+STAGES = {"score": "scores", "forms": "forms"}
+"""The two passes and the word each one's bar shows."""
 
 
 def add_parser(commands: argparse._SubParsersAction) -> None:
@@ -51,6 +55,38 @@ def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
     )
 
 
+def _two_passes(
+    columns: list[str],
+    data: Dataset | ColumnarDataset,
+    settings: ScanSettings,
+    adjust: Adjustment | None,
+) -> list[ColumnScan]:
+    bars = {stage: Progress(len(columns), enabled=sys.stderr.isatty()) for stage in STAGES}
+    results = []
+    for step in TwoPassScan(columns, data.raw_values, data.outcome.y, settings, adjust=adjust):
+        bars[step.stage].step(f"{STAGES[step.stage]}: {step.scan.column}")
+        if step.done == step.total:
+            bars[step.stage].close()
+        if step.stage == "forms":
+            results.append(step.scan)
+    return results
+
+
+def _adjusted(
+    columns: list[str],
+    data: Dataset | ColumnarDataset,
+    settings: ScanSettings,
+    adjust: Adjustment | None,
+) -> list[ColumnScan]:
+    progress = Progress(len(columns), enabled=sys.stderr.isatty())
+    results = []
+    for result in scan_columns(columns, data.raw_values, data.outcome.y, settings, adjust=adjust):
+        results.append(result)
+        progress.step(result.column)
+    progress.close()
+    return results
+
+
 def run(args: argparse.Namespace) -> int:
     if args.output and same_file(args.output, args.data):
         raise InputProblem(f"--output {args.output} would overwrite the data file")
@@ -59,13 +95,13 @@ def run(args: argparse.Namespace) -> int:
     adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
     settings = ScanSettings(groups=args.groups, knots=args.knots)
     columns = [c for c in data.columns if c != args.weight]  # weights are not a predictor
-    progress = Progress(len(columns), enabled=sys.stderr.isatty())
-    results = []
-    scans = scan_columns(columns, data.raw_values, data.outcome.y, settings, adjust=adjust)
-    for result in scans:
-        results.append(result)
-        progress.step(result.column)
-    progress.close()
+    # Two passes: every column's score first, then every column's forms; a bar for each.
+    # Adjusted columns share one covariate block in one pass (engine.adjusted_scan).
+    results = (
+        _adjusted(columns, data, settings, adjust)
+        if adjust is not None and adjust.covariates is not None
+        else _two_passes(columns, data, settings, adjust)
+    )
     ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped])
     if args.format == "json":
         text = as_json(ranked)

@@ -17,7 +17,7 @@ import numpy as np
 
 from tui.engine import flags as F
 from tui.engine.adjust import Adjustment
-from tui.engine.compare import ComparisonTable, compare_forms
+from tui.engine.compare import ComparisonTable, compare_forms, fit_candidate
 from tui.engine.counts import (
     DEFAULT_MAX_LEVELS,
     ReducedCounts,
@@ -86,6 +86,8 @@ class ColumnScan:
     """Largest finite value."""
     exact: bool = True
     """Fits used every distinct value (no binning)."""
+    forms_fitted: bool = True
+    """The best form and its ΔAIC are known; False for a first-pass result (score only)."""
     adjusted_for: tuple[str, ...] = ()
     """Covariates in every fit of this column (empty: one column at a time)."""
     weight: str | None = None
@@ -129,8 +131,9 @@ class ColumnScan:
         }
 
 
-def _shape_hint(table: ComparisonTable, counts: ReducedCounts) -> str:
-    """The spline's shape; a step that a smooth spline blurs shows as a winning cut point."""
+def _shape_hint(table: ComparisonTable, counts: ReducedCounts, forms: bool = True) -> str:
+    """The spline's shape; a step that a smooth spline blurs shows as a winning cut point
+    (known only once the forms are fitted)."""
     spline = table.row(SPLINE.key)
     if spline is None or spline.fit is None:
         return LINEAR
@@ -138,7 +141,7 @@ def _shape_hint(table: ComparisonTable, counts: ReducedCounts) -> str:
     grid = np.linspace(lo, hi, 201)
     shape = curve_shape(grid, spline.log_odds(grid))
     best = table.best()
-    if shape in TURNING or best is None or best.fit is None:
+    if shape in TURNING or not forms or best is None or best.fit is None:
         return shape
     return THRESHOLD if best.form.shows_threshold(best.form_coef) else shape
 
@@ -151,11 +154,15 @@ def scan_counts(
     integer_valued: bool,
     settings: ScanSettings = ScanSettings(),
     present: int | None = None,
+    forms: bool = True,
 ) -> tuple[ColumnScan, ComparisonTable | None]:
     """Score one column from its reduced counts (q-value left for ``rank``).
 
     ``present`` is the number of rows used (defaults to the counts' total, which is the sum
-    of the weights in a weighted check).
+    of the weights in a weighted check). Without ``forms`` only linear and the spline are
+    fitted (the first pass of a two-pass scan): score, p-value, flags and shape hint are
+    those of the full scan, except that a step shows as a threshold only once the forms
+    are fitted; best form and ΔAIC are left out.
     """
     n = int(round(counts.rows)) if present is None else present
     # Profile figures of the column itself: a binned column holds fewer x positions than
@@ -181,7 +188,14 @@ def scan_counts(
     # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
     # hinge, indicator); opening the column fits them all.
     candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
-    table = compare_forms(counts, candidates)
+    if forms:
+        table = compare_forms(counts, candidates)
+    else:
+        linear_row = fit_candidate(candidates[0], counts)
+        spline_rows = [
+            fit_candidate(c, counts, linear_row) for c in candidates if c.kind == SPLINE.key
+        ]
+        table = ComparisonTable((linear_row, *spline_rows), None)
     linear = table.linear
     spline = table.row(SPLINE.key)
     if any(r.status == "separation" for r in (linear, spline) if r is not None):
@@ -191,12 +205,13 @@ def scan_counts(
     minority = min(counts.total_events, counts.rows - counts.total_events)
     if minority < 10 * (settings.knots - 1):
         flags.append(F.LOW_EVENTS)
-    best = table.best()
+    best = table.best() if forms else None
     result = replace(
         base,
         flags=tuple(flags),
         best_form=best.recoding.describe() if best and best.recoding else None,
         delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
+        forms_fitted=forms,
     )
     if spline is not None and spline.status == "failed" and linear.status == "ok":
         return _values_scored(result, counts, table), table
@@ -209,7 +224,7 @@ def scan_counts(
             df=spline.lr_df,
             p_value=spline.lr_p,
             score_test=SPLINE_TEST,
-            shape=_shape_hint(table, counts),
+            shape=_shape_hint(table, counts, forms),
         ),
         table,
     )
@@ -316,9 +331,13 @@ def _whole_numbers(x: np.ndarray, counts: ReducedCounts) -> bool:
 
 
 def scan_reduced(
-    column: str, reduced: ReducedColumn, settings: ScanSettings = ScanSettings()
+    column: str,
+    reduced: ReducedColumn,
+    settings: ScanSettings = ScanSettings(),
+    forms: bool = True,
 ) -> tuple[ColumnScan, ComparisonTable | None]:
-    """Score a column from ``reduce_for_scan`` (q-value left for ``rank``)."""
+    """Score a column from ``reduce_for_scan`` (q-value left for ``rank``); ``forms=False``
+    is the first pass (see ``scan_counts``)."""
     result, table = scan_counts(
         column,
         reduced.counts,
@@ -327,6 +346,7 @@ def scan_reduced(
         reduced.integer_valued,
         settings,
         reduced.present,
+        forms,
     )
     if reduced.adjusted_for or reduced.weight:
         result = replace(result, adjusted_for=reduced.adjusted_for, weight=reduced.weight)

@@ -95,6 +95,8 @@ def read_column(path: PathLike, name: str) -> pd.Series:
     once per column parses the file once. ``drop_cached_table`` releases that memory.
     """
     file, ext = _checked(path)
+    if ext == ".parquet":
+        return _OPEN_PARQUET.column(file, name)
     if ext in _COLUMNAR:
         _require_columns(file, [name], list_columns(file))
         return _read(file, ext, [name])[name]
@@ -134,6 +136,45 @@ class _LastTable:
 
 
 _LAST_TABLE = _LastTable()
+
+
+class _OpenParquet:
+    """The most recently read Parquet file, kept open with its footer parsed: reading the
+    footer again for every column costs more than the column itself when a file has
+    thousands of columns. One per process (forked workers must not share a file position)
+    and per path, size and change time; reads are serialised."""
+
+    def __init__(self) -> None:
+        self._lock = threading.Lock()
+        self._key: tuple[str, int, int, int] | None = None
+        self._file: Any = None
+        self._names: list[str] = []
+
+    def column(self, file: Path, name: str) -> pd.Series:
+        stat = file.stat()
+        key = (str(file.resolve()), stat.st_size, stat.st_mtime_ns, os.getpid())
+        with self._lock:
+            if self._key != key:
+                self._key, self._file = None, None
+                self._file, self._names = _attempt(file, "Parquet", lambda: _parquet_open(file))
+                self._key = key
+            _require_columns(file, [name], self._names)
+            opened = self._file
+            table = _attempt(
+                file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=True)
+            )
+            frame = _attempt(file, "Parquet", table.to_pandas)
+        return _tidy(frame)[name]
+
+
+def _parquet_open(file: Path) -> tuple[Any, list[str]]:
+    import pyarrow.parquet as pq
+
+    opened = pq.ParquetFile(file)
+    return opened, _without_index(opened.schema_arrow)
+
+
+_OPEN_PARQUET = _OpenParquet()
 
 
 def _checked(path: PathLike) -> tuple[Path, str]:

@@ -1,0 +1,92 @@
+"""The stacked search chooses what fitting one member at a time chooses.
+
+FP1/FP2 powers, hinge knots and indicator cuts are fitted as one stack
+(``tui.engine.batch_fit``); the chosen member and its deviance must be those of the
+one-at-a-time search, and the stacked log-likelihoods those of statsmodels.
+"""
+
+import itertools
+
+import numpy as np
+import pytest
+import statsmodels.api as sm
+
+from tui.engine.batch_fit import fit_stack
+from tui.engine.compare import fit_candidate
+from tui.engine.counts import reduce_column
+from tui.engine.fitting import fit_logistic
+from tui.engine.forms import base
+from tui.engine.forms.base import Recoding, design_matrix, fit_on_counts, search_singly
+from tui.engine.forms.fracpoly import FP2, POWERS, Fp1Candidate, Fp2Candidate
+from tui.engine.forms.hinge import HingeCandidate
+from tui.engine.forms.indicator import IndicatorCandidate
+
+SEARCHED = (Fp1Candidate, Fp2Candidate, HingeCandidate, IndicatorCandidate)
+
+
+def _columns(rng):
+    n = 6000
+    normal = rng.normal(50, 10, n)
+    skewed = rng.lognormal(1.0, 0.8, n)
+    whole = rng.poisson(4.0, n).astype(float)
+    steep = rng.uniform(0, 1, n)
+    out = []
+    for x, eta in (
+        (normal, -1 + 0.004 * (normal - 50) ** 2),
+        (skewed, -1.5 + 0.6 * np.log(skewed)),
+        (whole, -1 + 0.5 * (whole > 5)),
+        (steep, -2 + 8 * steep),  # close to separated at the top
+        (normal, np.full(n, -1.0)),  # no effect: many near-ties
+    ):
+        y = (rng.random(n) < 1 / (1 + np.exp(-eta))).astype(np.int8)
+        out.append((x, y))
+    return out
+
+
+@pytest.mark.parametrize("exact_below", [0, 10**9])  # binned and exact counts
+def test_stacked_search_chooses_as_one_at_a_time(rng, monkeypatch, exact_below):
+    for x, y in _columns(rng):
+        counts = reduce_column(x, y, exact_below=exact_below)
+        for make in SEARCHED:
+            stacked = fit_candidate(make(), counts)
+            with monkeypatch.context() as patch:
+                patch.setattr(base, "_stacked_keys", None)  # any use would fail loudly
+                for module in ("fracpoly", "hinge", "indicator"):
+                    patch.setattr(f"tui.engine.forms.{module}.search", search_singly)
+                single = fit_candidate(make(), counts)
+            assert stacked.recoding == single.recoding, make.__name__
+            assert stacked.status == single.status
+            if single.status == "ok":
+                assert stacked.deviance == pytest.approx(single.deviance, rel=0, abs=1e-8)
+
+
+def test_stack_log_likelihoods_equal_single_fits_and_statsmodels(rng):
+    x, y = _columns(rng)[1]
+    counts = reduce_column(x, y, exact_below=10**9)  # exact, so rows and counts agree
+    recodings = [
+        Recoding(FP2, {"powers": [p1, p2], "shift": 0.0})
+        for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
+    ]
+    designs = np.stack([design_matrix(r, counts.x) for r in recodings])
+    stack = fit_stack(designs, counts.events, counts.trials)
+    assert stack.settled.sum() >= 30
+    family = sm.families.Binomial()
+    for i in np.flatnonzero(stack.settled):
+        single = fit_on_counts(recodings[i], counts)
+        assert stack.llf[i] == pytest.approx(single.llf, rel=1e-12, abs=1e-8)
+    for i in np.flatnonzero(stack.settled)[::9]:
+        # Reference library statsmodels: GLM Binomial on every row of the same design.
+        rows = design_matrix(recodings[i], x)
+        llf = sm.GLM(y.astype(float), rows, family=family).fit().llf
+        assert stack.llf[i] == pytest.approx(llf, rel=1e-9)
+
+
+def test_unsettled_members_are_left_to_the_single_fit():
+    # A separated design: Newton never settles, so the stack hands it back.
+    x = np.arange(20.0)
+    trials = np.ones(20)
+    events = (x >= 10).astype(float)
+    design = np.column_stack([np.ones(20), x])
+    stack = fit_stack(np.stack([design, design]), events, trials)
+    assert not stack.settled.any()
+    assert fit_logistic(design, events, trials).separated

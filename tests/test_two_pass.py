@@ -1,0 +1,79 @@
+"""A two-pass scan gives a one-pass scan's results, scores first; a column can jump the
+second pass's queue."""
+
+import threading
+
+import numpy as np
+
+from tui.engine.runner import scan_columns
+from tui.engine.scan import rank
+from tui.engine.shape import THRESHOLD
+from tui.engine.two_pass import TwoPassScan
+
+
+def _data(rng, n=3000, p=8):
+    cols = {f"c{j}": rng.normal(size=n) for j in range(p)}
+    cols["c7"] = np.ones(n)  # constant: listed, never scored
+    eta = -1 + 0.8 * cols["c0"] ** 2 + 0.6 * (cols["c1"] > 0.5)
+    y = (rng.random(n) < 1 / (1 + np.exp(-eta))).astype(np.int8)
+    return cols, y
+
+
+def _check(steps, one, names):
+    first = [s for s in steps if s.stage == "score"]
+    second = [s for s in steps if s.stage == "forms"]
+    assert [s.stage for s in steps] == ["score"] * len(names) + ["forms"] * len(names)
+    assert [s.done for s in first] == list(range(1, len(names) + 1))
+    assert {s.scan.column: s.scan for s in second} == one
+    for s in first:
+        full = one[s.scan.column]
+        assert s.scan.score == full.score and s.scan.p_value == full.p_value
+        assert s.scan.flags == full.flags
+        assert s.scan.shape == full.shape or full.shape == THRESHOLD
+        assert s.scan.best_form is None and s.scan.forms_fitted is (full.score is None)
+
+
+def test_two_passes_equal_one_pass_in_process_and_on_workers(rng):
+    cols, y = _data(rng)
+    names = list(cols)
+    one = {s.column: s for s in scan_columns(names, cols.__getitem__, y, workers=1)}
+    for workers in (1, 2):
+        steps = list(TwoPassScan(names, cols.__getitem__, y, workers=workers))
+        _check(steps, one, names)
+
+
+def test_two_passes_from_a_fork_server_when_threads_run(rng):
+    cols, y = _data(rng)
+    names = list(cols)
+    one = {s.column: s for s in scan_columns(names, cols.__getitem__, y, workers=1)}
+    out = []
+    worker = threading.Thread(
+        target=lambda: out.extend(TwoPassScan(names, cols.__getitem__, y, workers=2))
+    )
+    worker.start()
+    worker.join()
+    _check(out, one, names)
+
+
+def test_second_pass_follows_the_ranking_and_a_column_can_jump_it(rng):
+    cols, y = _data(rng)
+    names = list(cols)
+    scan = TwoPassScan(names, cols.__getitem__, y, workers=1)
+    steps = iter(scan)
+    first = [next(steps) for _ in names]
+    order = [s.column for s in rank(s.scan for s in first)]
+    assert scan.prioritise(order[-1])  # the least non-linear column goes first
+    assert not scan.prioritise("no such column")
+    second = [s.scan.column for s in steps]
+    assert second == [order[-1], *order[:-1]]
+
+
+def test_a_column_asked_for_during_the_first_pass_comes_first(rng):
+    cols, y = _data(rng)
+    names = list(cols)
+    scan = TwoPassScan(names, cols.__getitem__, y, workers=1)
+    steps = iter(scan)
+    next(steps)
+    assert scan.prioritise("c5")
+    rest = list(steps)
+    assert [s.scan.column for s in rest if s.stage == "forms"][0] == "c5"

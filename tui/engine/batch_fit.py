@@ -1,0 +1,166 @@
+"""Many logistic fits on the same counts at once: one vectorised Newton over a stack of designs.
+
+A search (FP1 and FP2 powers, hinge knots, indicator cuts) fits tens of designs of the same
+shape to the same (x, rows, events) triples. One at a time, the count of numpy calls sets
+the time; stacked, each Newton step is a handful of calls over every candidate at once.
+
+The stack only ranks the members. Every member it cannot settle cleanly (a singular or
+nearly dependent design, no convergence within the step budget, separation) is handed
+back as unsettled, so the caller fits it one at a time with ``fit_logistic``, which has the
+last word on status. The solver follows ``fit_logistic`` step by step (the same centring
+and scaling, start, step halving and convergence rule), so the log-likelihoods agree with
+it to round-off.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import special
+
+_MAX_ITER = 50
+_RANK_MARGIN = 1e-6
+"""A design whose QR diagonal falls within this share of its largest is left to the single
+fit (whose own rank rule, at 1e-9, decides it)."""
+_SEPARATION_ETA = 30.0
+_CHUNK_FLOATS = 4_000_000
+"""Designs per stack are limited so that one stack holds at most this many numbers."""
+
+
+@dataclass(frozen=True)
+class BatchFits:
+    """Log-likelihoods of a stack of designs; ``settled[i]`` False means fit member i alone."""
+
+    llf: np.ndarray
+    """Log-likelihood on the row scale (NaN where unsettled)."""
+    settled: np.ndarray
+    """Converged, full rank and clear of separation in the stacked solver."""
+
+
+def fit_stack(
+    designs: np.ndarray, events: np.ndarray, trials: np.ndarray, tol: float = 1e-10
+) -> BatchFits:
+    """Fit log-odds = designs[i] @ coef for every i (designs: members × rows × columns,
+    intercept column first), all on the same events and trials."""
+    designs = np.asarray(designs, dtype=float)
+    k, m, p = designs.shape
+    per = max(1, _CHUNK_FLOATS // max(1, m * p))
+    if k > per:
+        parts = [fit_stack(designs[i : i + per], events, trials, tol) for i in range(0, k, per)]
+        return BatchFits(
+            np.concatenate([b.llf for b in parts]), np.concatenate([b.settled for b in parts])
+        )
+    events = np.asarray(events, dtype=float)
+    trials = np.asarray(trials, dtype=float)
+    llf = np.full(k, np.nan)
+    settled = np.zeros(k, dtype=bool)
+    finite = np.isfinite(designs).all(axis=(1, 2))
+    if m == 0 or not finite.any():
+        return BatchFits(llf, settled)
+    # One contiguous row per design column: the reductions run along rows.
+    zt = _scaled(np.ascontiguousarray(designs.transpose(0, 2, 1)), trials)
+    full_rank = finite & _clearly_full_rank(zt, trials)
+    if not full_rank.any():
+        return BatchFits(llf, settled)
+    idx = np.flatnonzero(full_rank)
+    ll, ok = _newton(zt[idx], events, trials, tol)
+    llf[idx] = np.where(ok, ll, np.nan)
+    settled[idx] = ok
+    return BatchFits(llf, settled)
+
+
+def _scaled(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
+    """Centre (weighted mean) and scale (weighted sd) the non-intercept columns in place,
+    as ``fit_logistic`` does; an all-zero column keeps centre 0 and scale 1.
+    ``zt`` is members × columns × rows."""
+    w = trials / float(trials.sum())
+    cols = zt[:, 1:, :]
+    big = np.abs(cols).max(axis=2, keepdims=True)
+    big[big == 0] = 1.0
+    cols /= big
+    cols -= cols @ w[:, None]
+    s = np.sqrt(np.square(cols) @ w[:, None])
+    s[s == 0] = 1.0
+    cols /= s
+    zt[:, 0, :] = 1.0
+    return zt
+
+
+def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
+    """Members whose weighted design is far from dependent columns."""
+    if zt.shape[2] < zt.shape[1]:
+        return np.zeros(zt.shape[0], dtype=bool)
+    weighted = zt * np.sqrt(np.maximum(trials, 0))
+    r = np.linalg.qr(weighted.transpose(0, 2, 1), mode="r")
+    diag = np.abs(np.diagonal(r, axis1=1, axis2=2))
+    top = np.maximum(1.0, diag.max(axis=1))
+    return (diag > _RANK_MARGIN * top[:, None]).all(axis=1)
+
+
+def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> np.ndarray:
+    return eta @ events - np.logaddexp(0.0, eta) @ trials
+
+
+def _newton(
+    zt: np.ndarray, events: np.ndarray, trials: np.ndarray, tol: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """Plain Newton-Raphson (iteratively reweighted least squares) on every member at once;
+    returns log-likelihoods and which members converged cleanly.
+
+    No step halving: a member whose steps do not shrink, or whose log-odds run off, is
+    simply left unsettled for the single fit, which halves steps and judges separation.
+    Converged means the Newton decrement g'H^-1 g, twice the log-likelihood still to gain
+    near the maximum, is below ``tol`` times the rows: the reported log-likelihood is then
+    the maximum to far better than the window within which members are refitted alone.
+    """
+    k, p, m = zt.shape
+    nobs = float(trials.sum())
+    pbar = (float(events.sum()) + 0.5) / (nobs + 1.0)
+    converged = np.zeros(k, dtype=bool)
+    broken = np.zeros(k, dtype=bool)
+    final_eta = np.zeros((k, m))
+    limit = tol * max(1.0, nobs)
+    # Working arrays hold the members still iterating; they shrink as members finish.
+    active = np.arange(k)
+    za = zt
+    beta = np.zeros((k, 1, p))
+    beta[:, 0, 0] = np.log(pbar / (1 - pbar))
+    eta = np.full((k, m), beta[0, 0, 0])
+    for _ in range(_MAX_ITER):
+        mu = special.expit(eta)
+        fitted = trials * mu
+        grad = za @ (events - fitted)[:, :, None]
+        hess = (za * (fitted * (1.0 - mu))[:, None, :]) @ za.transpose(0, 2, 1)
+        try:
+            step = np.linalg.solve(hess, grad)
+        except np.linalg.LinAlgError:
+            step = np.stack([_solve_or_nan(h, g) for h, g in zip(hess, grad, strict=True)])
+        decrement = (grad * step).sum(axis=(1, 2))
+        bad = ~np.isfinite(decrement) | (decrement < 0)
+        step[bad] = 0.0
+        beta += step.transpose(0, 2, 1)
+        eta = (beta @ za)[:, 0, :]
+        runaway = np.abs(eta).max(axis=1) > _SEPARATION_ETA
+        done = (decrement <= limit) & ~bad
+        broken[active[bad | (runaway & ~done)]] = True
+        converged[active[done]] = True
+        final_eta[active[done]] = eta[done]
+        going = ~done & ~bad & ~runaway
+        if not going.any():
+            break
+        if not going.all():
+            active, za = active[going], za[going]
+            beta, eta = beta[going], eta[going]
+    ok = converged & ~broken
+    ll = np.full(k, np.nan)
+    if ok.any():
+        ll[ok] = _loglik(final_eta[ok], events, trials)
+    return ll, ok
+
+
+def _solve_or_nan(h: np.ndarray, g: np.ndarray) -> np.ndarray:
+    try:
+        return np.linalg.solve(h, g)
+    except np.linalg.LinAlgError:
+        return np.full(g.shape, np.nan)

@@ -1,0 +1,255 @@
+"""Scores first, forms second: a scan in two passes over the same reduced counts.
+
+The first pass reads and reduces every column once and fits only linear and the scoring
+spline: the score, p-value, flags and shape hint of every column, a few milliseconds each,
+so a list can be ranked (q-values need every score) long before the forms are known. The
+second pass fits every candidate form of each column on the counts the first pass kept,
+most non-linear columns first, and gives the best form and ΔAIC; a column can be moved to
+the front of that queue (``prioritise``), as when a user opens it. Second-pass results are
+exactly those of a one-pass scan (``scan_columns``): the same code on the same counts.
+
+The counts of every column are held between the passes: a binned column keeps at most a
+few thousand numbers (about 40 kB), an exact one three numbers per distinct value.
+"""
+
+from __future__ import annotations
+
+import threading
+from collections.abc import Iterable, Iterator
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from tui.engine.adjust import Adjustment
+from tui.engine.fitting import one_blas_thread
+from tui.engine.runner import (
+    AHEAD_PER_WORKER,
+    ValuesOf,
+    _quiet_worker,
+    _start_method,
+    default_workers,
+)
+from tui.engine.scan import ColumnScan, ReducedColumn, ScanSettings, rank, reduce_for_scan
+from tui.engine.scan import scan_reduced as _scan_reduced
+
+Stage = Literal["score", "forms"]
+
+
+@dataclass(frozen=True)
+class ScanStep:
+    """One result of a two-pass scan."""
+
+    stage: Stage
+    """``score``: first pass (no best form yet); ``forms``: the column's full result."""
+    scan: ColumnScan
+    """The column's result (q-value left for ``rank``)."""
+    done: int
+    """Results of this stage so far, this one included."""
+    total: int
+    """Columns in the scan: the stage is over when ``done == total``."""
+
+
+class TwoPassScan:
+    """Iterate to run the scan: every column's ``score`` step, then every column's
+    ``forms`` step. ``prioritise`` may be called from any thread while iterating.
+
+    ``workers`` as in ``scan_columns`` (default: every core; 1 scans in this process).
+    Worker processes are forked when this process runs a single thread (they read the
+    columns themselves); otherwise they come from a fork server and receive counts reduced
+    here. Closing the iterator early stops the scan.
+    """
+
+    def __init__(
+        self,
+        columns: Iterable[str],
+        values_of: ValuesOf,
+        y: np.ndarray,
+        settings: ScanSettings = ScanSettings(),
+        *,
+        workers: int | None = None,
+        adjust: Adjustment | None = None,
+    ) -> None:
+        self.columns = list(columns)
+        self._values_of, self._y, self._settings, self._adjust = values_of, y, settings, adjust
+        count = default_workers() if workers is None else max(1, int(workers))
+        self._workers = min(count, len(self.columns))
+        self._lock = threading.Lock()
+        self._queue: list[str] = []
+        self._reduced: dict[str, ReducedColumn] = {}
+        self._first_results: dict[str, ColumnScan] = {}
+        self._names = set(self.columns)
+        self._ordered = False  # the second pass's queue is built
+        self._jumped: list[str] = []  # asked for during the first pass, latest first
+
+    def prioritise(self, column: str) -> bool:
+        """Fit this column's forms next (also when asked during the first pass); False
+        when the column is not in the scan or its forms are already fitted or fitting."""
+        with self._lock:
+            if column in self._queue:
+                self._queue.remove(column)
+                self._queue.insert(0, column)
+                return True
+            if self._ordered or column not in self._names:
+                return False
+            self._jumped = [column] + [c for c in self._jumped if c != column]
+            return True
+
+    def __iter__(self) -> Iterator[ScanStep]:
+        total = len(self.columns)
+        scored: list[ColumnScan] = []
+        if self._workers <= 1:
+            with one_blas_thread():
+                for name in self.columns:
+                    reduced = self._reduce(name)
+                    scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
+                    if len(scored) == total:
+                        self._order(scored)
+                    yield ScanStep("score", scored[-1], len(scored), total)
+                for done, name in enumerate(iter(self._next, None), start=1):
+                    yield ScanStep("forms", self._second(name), done, total)
+            return
+        context = _start_method()
+        forked = context.get_start_method() == "fork"
+        if forked:
+            executor = ProcessPoolExecutor(
+                self._workers,
+                context,
+                initializer=_inherit,
+                initargs=(self._values_of, self._y, self._settings, self._adjust),
+            )
+        else:
+            executor = ProcessPoolExecutor(self._workers, context, initializer=_quiet_worker)
+        limit = AHEAD_PER_WORKER * self._workers
+        try:
+            pending: dict[Future[tuple[ColumnScan, ReducedColumn | None]], str] = {}
+            names = iter(self.columns)
+            while True:
+                while len(pending) < limit:
+                    name = next(names, None)
+                    if name is None:
+                        break
+                    if forked:
+                        pending[executor.submit(_first_named, name)] = name
+                    else:
+                        reduced = self._reduce(name)
+                        self._reduced[name] = reduced
+                        pending[executor.submit(_first_given, name, reduced, self._settings)] = name
+                if not pending:
+                    break
+                done, _ = wait(pending, return_when=FIRST_COMPLETED)
+                for future in done:
+                    name = pending.pop(future)
+                    scan, reduced = future.result()
+                    kept = self._keep(
+                        name, self._reduced[name] if reduced is None else reduced, scan
+                    )
+                    scored.append(kept)
+                    if len(scored) == total:
+                        self._order(scored)
+                    yield ScanStep("score", kept, len(scored), total)
+            second: dict[Future[ColumnScan], str] = {}
+            finished = 0
+            while True:
+                while len(second) < limit:
+                    name = self._next()
+                    if name is None:
+                        break
+                    reduced = self._reduced.pop(name)
+                    if not _needs_forms(reduced, self._first_results[name]):
+                        finished += 1
+                        yield ScanStep("forms", self._first_results[name], finished, total)
+                        continue
+                    second[executor.submit(_forms_given, name, reduced, self._settings)] = name
+                if not second:
+                    break
+                done, _ = wait(second, return_when=FIRST_COMPLETED)
+                for future in done:
+                    second.pop(future)
+                    finished += 1
+                    yield ScanStep("forms", future.result(), finished, total)
+        finally:
+            executor.shutdown(wait=False, cancel_futures=True)
+
+    def _reduce(self, name: str) -> ReducedColumn:
+        x = self._values_of(name)
+        return reduce_for_scan(x, self._y, self._settings, self._adjust, name)
+
+    def _keep(self, name: str, reduced: ReducedColumn, scan: ColumnScan) -> ColumnScan:
+        """The first pass keeps each column's counts and result for the second."""
+        with self._lock:
+            self._reduced[name] = reduced
+            self._first_results[name] = scan
+        return scan
+
+    def _order(self, scored: list[ColumnScan]) -> None:
+        """Second-pass queue: columns asked for first, then most non-linear first (the
+        first pass's ranking)."""
+        with self._lock:
+            jumped = [c for c in self._jumped if c in self._first_results]
+            rest = [s.column for s in rank(scored) if s.column not in jumped]
+            self._queue = jumped + rest
+            self._ordered = True
+
+    def _next(self) -> str | None:
+        with self._lock:
+            return self._queue.pop(0) if self._queue else None
+
+    def _second(self, name: str) -> ColumnScan:
+        reduced = self._reduced.pop(name)
+        first = self._first_results[name]
+        if not _needs_forms(reduced, first):
+            return first
+        return _scan_reduced(name, reduced, self._settings)[0]
+
+
+def _needs_forms(reduced: ReducedColumn, first: ColumnScan) -> bool:
+    """A column the first pass could not fit at all (constant, binary, one outcome class)
+    has nothing for the second pass to add."""
+    counts = reduced.counts
+    return not (
+        counts.distinct_values <= 2
+        or counts.total_events == 0
+        or counts.total_events == counts.rows
+    )
+
+
+def _first(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:
+    return _scan_reduced(name, reduced, settings, forms=False)[0]
+
+
+def _first_given(
+    name: str, reduced: ReducedColumn, settings: ScanSettings
+) -> tuple[ColumnScan, None]:
+    """Worker task: first pass on counts reduced by the parent."""
+    with one_blas_thread():
+        return _first(name, reduced, settings), None
+
+
+def _forms_given(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:
+    """Worker task: second pass (every form) on counts kept by the parent."""
+    with one_blas_thread():
+        return _scan_reduced(name, reduced, settings)[0]
+
+
+_INHERITED: tuple[ValuesOf, np.ndarray, ScanSettings, Adjustment | None] | None = None
+
+
+def _inherit(
+    values_of: ValuesOf, y: np.ndarray, settings: ScanSettings, adjust: Adjustment | None
+) -> None:
+    """Worker start (fork): keep the reader, outcome, settings and covariates handed over."""
+    global _INHERITED
+    _quiet_worker()
+    _INHERITED = (values_of, y, settings, adjust)
+
+
+def _first_named(name: str) -> tuple[ColumnScan, ReducedColumn]:
+    """Worker task (fork): read, reduce and score one column; the counts go back to the
+    parent for the second pass."""
+    assert _INHERITED is not None, "worker started without the parent's reader"
+    values_of, y, settings, adjust = _INHERITED
+    with one_blas_thread():
+        reduced = reduce_for_scan(values_of(name), y, settings, adjust, name)
+        return _first(name, reduced, settings), reduced

@@ -21,6 +21,7 @@ from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
+from tui.recodings.decisions import decided_counts
 from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
@@ -230,6 +231,7 @@ def build_report(
         covariates = decision.evidence.adjusted_for
         return open_adjustment(data, log.outcome_column, covariates, weight, weight_kind, forms)
 
+    counts = decided_counts(log)
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
     sha = file_sha256(data.path)
     adjust = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
@@ -250,8 +252,11 @@ def build_report(
     summary = {
         "numeric columns scanned": str(len(scans)),
         f"columns with q < {Q_LINEAR} (spline against linear)": str(flagged),
-        "columns decided": str(len(log.decisions)),
-        "columns set aside": str(len(log.set_aside)),
+        # Decided: recoded, kept linear or set aside (the three counts of every surface).
+        "columns decided": str(counts.decided),
+        "columns recoded": str(counts.recoded),
+        "columns kept linear": str(counts.kept_linear),
+        "columns set aside": str(counts.set_aside),
         "adjusted for": ", ".join(adjust) if adjust else "nothing (one column at a time)",
         "weights": ", ".join(weights) if weights else "none",
     }

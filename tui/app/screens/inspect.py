@@ -13,7 +13,7 @@ from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
-from tui.app.messages import FitsReady, ScoresChanged
+from tui.app.messages import FitsReady, LogChanged, ScoresChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
 from tui.app.screens.decisions import DecisionsScreen
@@ -31,7 +31,7 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.forms.spline import KNOT_PERCENTILES, SPLINE
+from tui.engine.forms.spline import KNOT_PERCENTILES
 from tui.engine.groups import GROUP_CHOICES
 from tui.recodings.model import Decision
 
@@ -77,8 +77,6 @@ class InspectScreen(Screen[str]):
         super().__init__()
         self.session, self.cache, self.column = session, cache, column
         self.view: ReviewView = session.view  # the list's order, typed numbers, drafts
-        self.groups = session.settings.groups
-        self.knots = session.settings.knots
         self.fits: ColumnFits | None = None
         self._want_key: str | None = None
 
@@ -101,6 +99,16 @@ class InspectScreen(Screen[str]):
         self.show_column(self.column)
 
     # --- what is shown --------------------------------------------------------------------
+
+    @property
+    def groups(self) -> int:
+        """Quantile groups set for this column (remembered per column while the app runs)."""
+        return self.view.settings_of(self.column, self.session.start_settings(self.column))[0]
+
+    @property
+    def knots(self) -> int:
+        """Spline knots set for this column."""
+        return self.view.settings_of(self.column, self.session.start_settings(self.column))[1]
 
     def request(self) -> FitRequest:
         """The fits wanted now."""
@@ -232,7 +240,7 @@ class InspectScreen(Screen[str]):
         caution.update("")
         caution.display = False
         if fits is not None and fits.problem is not None:
-            notes.update(f"✗ {fits.problem}")
+            notes.update(f"about this column: {fits.problem}")  # information, not an error
             return
         if row is None or fits is None:
             notes.update("")
@@ -302,6 +310,9 @@ class InspectScreen(Screen[str]):
 
     def action_set_aside(self) -> None:
         """Record that this column is not to be used."""
+        if self.fits is None:  # nothing shown yet: a key typed on the way here, not a choice
+            tell(self, "wait for the column's fits before setting it aside", severity="warning")
+            return
         try:
             self.session.set_aside(self.column, self.note())
         except LogNotSaved as problem:
@@ -309,7 +320,7 @@ class InspectScreen(Screen[str]):
             return
         self.view.drafts.pop(self.column, None)
         self._after_change()
-        tell(self, f"{self.column} set aside (saved)", timeout=3)
+        tell(self, f"recorded: {self.column} set aside (saved), z undoes", timeout=4)
 
     def action_note(self) -> None:
         """Add or edit the note on this column."""
@@ -333,6 +344,11 @@ class InspectScreen(Screen[str]):
         tell(self, text, timeout=3)
         self._refresh_heading()
 
+    @on(LogChanged)
+    def log_changed(self) -> None:
+        """The log changed elsewhere (an undo): show the column's decision as it is now."""
+        self._after_change()
+
     def _after_change(self) -> None:
         if self.fits is not None:
             self.query_one(FormsTable).show(self.fits, self._accepted())
@@ -342,15 +358,16 @@ class InspectScreen(Screen[str]):
 
     def action_cycle_groups(self) -> None:
         """Next number of quantile groups (4, 5, 10, 20)."""
-        self.groups = next_choice(GROUP_CHOICES, self.groups)
+        self.view.settings[self.column] = (next_choice(GROUP_CHOICES, self.groups), self.knots)
         self._refresh_heading()
         self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def action_cycle_knots(self) -> None:
         """Next number of spline knots (3 to 7)."""
-        self.knots = next_choice(KNOT_CHOICES, self.knots)
+        self.view.settings[self.column] = (self.groups, next_choice(KNOT_CHOICES, self.knots))
         self._refresh_heading()
-        self._load(SPLINE.key)
+        # The highlight stays where it is: the spline row is refitted, not chosen.
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def _range(self) -> tuple[float, float] | None:
         profile = self.session.profile_of(self.column)

@@ -18,7 +18,11 @@ MARKS = (
     "Marks before a column name: ✓ a form accepted · = kept linear · × set aside · "
     "! flagged (see the flags field).",
     "Plot: ● empirical logit of a quantile group at its median, │ ±1.96 standard errors, "
-    "· · · linear fit, braille line the highlighted form.",
+    "+ LOWESS smoother, · · · linear fit, braille line the highlighted form, ◂ ▸ values "
+    "beyond the window (x spans the central 95% of rows and the groups; y the groups' "
+    "intervals and the smoother; curves are cut at its edges).",
+    "Recoded view (v): each group's logit against the highlighted form's mean fitted "
+    "linear predictor, with the line y = x (· · ·) the groups follow when the form fits.",
     "q-values and shape hints read … until every column is scanned.",
     "adj (once a score is adjusted): - unadjusted, +N adjusted for N columns, named under "
     "the list. The working model: every column accepted or kept linear, in its form, and "

@@ -42,6 +42,11 @@ GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
 CUT_TIP = "Type a cut point for an indicator"
 HINGE_TIP = "Type the knot of a hinge"
+RECODED_TIP = (
+    "Plot the group logits against the highlighted form's fitted linear predictor "
+    "(on the line when the form fits); again: back to the curves"
+)
+TABLE_TIP = "Give the plot the room of the candidate table, or the table back"
 SHORT_BELOW = 32
 """Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
 
@@ -71,6 +76,8 @@ class InspectScreen(Screen[str]):
         Binding("c", "enter_cut", "Cut", tooltip=CUT_TIP, show=False),
         Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
+        Binding("v", "recoded_view", "Recoded view", tooltip=RECODED_TIP, show=False),
+        Binding("t", "toggle_table", "Table", tooltip=TABLE_TIP, show=False),
     ]
 
     def __init__(self, session: ReviewSession, cache: FitCache, column: str) -> None:
@@ -79,6 +86,8 @@ class InspectScreen(Screen[str]):
         self.view: ReviewView = session.view  # the list's order, typed numbers, drafts
         self.fits: ColumnFits | None = None
         self._want_key: str | None = None
+        self.recoded = False
+        """The plot shows the recoded view (groups against the form's linear predictor)."""
 
     def compose(self) -> ComposeResult:
         yield Line("", id="heading")
@@ -227,14 +236,9 @@ class InspectScreen(Screen[str]):
         """Redraw the candidate curve, the legend and the notes for the highlighted row."""
         fits = self.fits
         row = self.highlighted()
-        self.query_one(LogitPlot).draw(fits, row)
-        adjusted = fits is not None and fits.counts.covariates is not None
-        # The group logits are the column's own: the covariates are in the fits only.
-        legend = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE  + LOWESS"
-        legend += "  · · linear"
-        if row is not None and row.kind != "linear" and row.fit is not None:
-            legend += f"  ⠤⠤ {form_text(row)}"
-        self.query_one("#legend", Line).update(legend)
+        plot = self.query_one(LogitPlot)
+        plot.draw(fits, row, self.recoded)
+        self.query_one("#legend", Line).update(self._legend(fits, row, plot))
         notes = self.query_one("#notes", Line)
         caution = self.query_one("#caution", Line)
         caution.update("")
@@ -253,6 +257,35 @@ class InspectScreen(Screen[str]):
         if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")
             caution.display = True
+
+    def _legend(self, fits: ColumnFits | None, row: FormFit | None, plot: LogitPlot) -> str:
+        """Every mark the plot draws, in words."""
+        adjusted = fits is not None and fits.counts.covariates is not None
+        # The group logits are the column's own: the covariates are in the fits only.
+        groups = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE"
+        if self.recoded:
+            form = form_text(row) if row is not None else "no form"
+            return f"recoded ({form}): {groups} at its linear predictor  · · y = x"
+        legend = f"{groups}  + LOWESS  · · linear"
+        if row is not None and row.kind != "linear" and row.fit is not None:
+            legend += f"  ⠤⠤ {form_text(row)}"
+        window = plot.window()
+        if window is not None and (window.beyond_low or window.beyond_high):
+            legend += "  ◂ ▸ values beyond"
+        return legend
+
+    def action_recoded_view(self) -> None:
+        """Switch between the curves and the recoded view of the highlighted form."""
+        row = self.highlighted()
+        if not self.recoded and (row is None or row.fit is None):
+            tell(self, "highlight a fitted form first", severity="warning")
+            return
+        self.recoded = not self.recoded
+        self._refresh_row()
+
+    def action_toggle_table(self) -> None:
+        """Give the plot the candidate table's room (the highlighted row stays), or back."""
+        self.toggle_class("-plot-first")
 
     def on_resize(self) -> None:
         # Short terminals give the plot the room and let the table scroll.

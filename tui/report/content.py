@@ -15,9 +15,11 @@ from tui.engine.column_fits import CandidateSet, fit_column
 from tui.engine.compare import FormFit
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
+from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
+from tui.engine.smoother import smoothed_log_odds
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
@@ -65,7 +67,8 @@ class FormLine:
 
 @dataclass(frozen=True)
 class Curve:
-    """Fitted log-odds on a grid between the first and last group medians."""
+    """Fitted log-odds on a grid across the plot window's x range; NaN where a curve
+    leaves the window (cut there, as on the review screen)."""
 
     x: tuple[float, ...]
     linear: tuple[float, ...]
@@ -87,6 +90,10 @@ class DecisionSection:
     groups: tuple[GroupLine, ...]
     curve: Curve | None
     withheld_groups: int
+    window: PlotWindow | None = None
+    """The picture's window, set as the review screen sets it (``plot_window``)."""
+    smoother: tuple[tuple[float, ...], tuple[float, ...]] | None = None
+    """The LOWESS smoother inside the window (x, log-odds), as on the review screen."""
 
 
 @dataclass(frozen=True)
@@ -156,10 +163,12 @@ def _section(
     chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
 
-    lines, withheld = [], 0
+    lines, withheld, shown = [], 0, []
     for i, g in enumerate(logit_groups(plain, groups_n), 1):
         safe = group_is_safe(g.n, g.events, min_cell)
         withheld += 0 if safe else 1
+        if safe and g.n >= min_cell:
+            shown.append(g)  # the window comes from what the report prints only
         lines.append(
             GroupLine(
                 rank=i,
@@ -171,14 +180,19 @@ def _section(
                 se=g.se if safe else None,
             )
         )
-    medians = [g.median for g in lines if g.median is not None]
-    curve = None
-    if len(medians) >= 2 and chosen.fit is not None and table.linear.fit is not None:
-        grid = np.linspace(medians[0], medians[-1], 61)
+    curve, window, smooth = None, None, None
+    if len(shown) >= 2:
+        sx, sy = smoothed_log_odds(plain)
+        window = plot_window(plain, shown, (sx, sy))
+        inside = (sx >= window.x_low) & (sx <= window.x_high) & np.isfinite(sy)
+        if inside.any():
+            smooth = (tuple(float(v) for v in sx[inside]), tuple(float(v) for v in sy[inside]))
+    if window is not None and chosen.fit is not None and table.linear.fit is not None:
+        grid = window.grid(121)
         curve = Curve(
             tuple(float(v) for v in grid),
-            tuple(float(v) for v in table.linear.log_odds(grid)),
-            tuple(float(v) for v in chosen.log_odds(grid)),
+            tuple(float(v) for v in window.clip(table.linear.log_odds(grid))),
+            tuple(float(v) for v in window.clip(chosen.log_odds(grid))),
         )
     return DecisionSection(
         column=decision.column,
@@ -192,6 +206,8 @@ def _section(
         groups=tuple(lines),
         curve=curve,
         withheld_groups=withheld,
+        window=window,
+        smoother=smooth,
     )
 
 

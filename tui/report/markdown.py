@@ -47,7 +47,7 @@ def _decision(d: DecisionSection) -> list[str]:
         for g in d.groups
     ]
     out += _table(["group", "median x", "rows", "events", "non-events", "logit", "SE"], grows)
-    out += ["", "```", text_plot(d.groups, d.curve), "```", ""]
+    out += ["", "```", text_plot(d.groups, d.curve, d.window, d.smoother), "```", ""]
     out += [f"**Note:** {d.note or '(none recorded)'}", ""]
     return out
 

@@ -10,6 +10,7 @@ from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 
 from tui.app.widgets.line import Line
+from tui.app.widgets.triage_table import TriageTable
 
 Section = tuple[str, Sequence[Binding]]
 """A heading and the bindings listed under it."""
@@ -24,6 +25,10 @@ MARKS = (
     "Recoded view (v): each group's logit against the highlighted form's mean fitted "
     "linear predictor, with the line y = x (· · ·) the groups follow when the form fits.",
     "q-values and shape hints read … until every column is scanned.",
+    "A narrow list drops fields in this order, first to last: "
+    + TriageTable.gives_way()
+    + " (the column name stays). Which fields show depends on the width only; the line "
+    "under the list always gives n, missing, distinct and flags of the highlighted column.",
     "adj (once a score is adjusted): - unadjusted, +N adjusted for N columns, named under "
     "the list. The working model: every column accepted or kept linear, in its form, and "
     "the --adjust columns; set-aside columns stay out.",

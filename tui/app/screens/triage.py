@@ -232,10 +232,11 @@ class TriageScreen(Screen[None]):
         if self.query_one(TriageTable).adjusted_shown:
             named = ", ".join(scan.adjusted_for)
             basis = f"score adjusted for {named} · " if named else "score unadjusted · "
+        # n, missing, distinct and flags first: the list may have no room for them.
         detail.update(
-            f"{scan.column}: {basis}n {scan.n} · missing {scan.missing} · distinct "
-            f"{scan.distinct} · best {best} (ΔAIC {number_text(scan.delta_aic)}) · flags "
-            f"{', '.join(scan.flags) or 'none'} · {self.session.decision_phrase(scan.column)}"
+            f"{scan.column}: n {scan.n} · missing {scan.missing} · distinct {scan.distinct} · "
+            f"flags {', '.join(scan.flags) or 'none'} · {basis}best {best} (ΔAIC "
+            f"{number_text(scan.delta_aic)}) · {self.session.decision_phrase(scan.column)}"
         )
 
     def on_key(self, event: events.Key) -> None:

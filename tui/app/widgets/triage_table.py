@@ -72,7 +72,7 @@ class TriageTable(KeyTable):
         ColumnSpec("best", "best form", 16, 26, False, 5),
         ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 6),
         ColumnSpec("flags", "flags", 12, 28, False, 7),
-        ColumnSpec("decision", "decision", 12, 24, False, 8),
+        ColumnSpec("decision", "decision", 12, 24, False, 13),  # the name's mark says it too
         ColumnSpec("adjusted", "adjusted for", 16, 60, False, 9),
     )
 

@@ -15,7 +15,22 @@ from textual.worker import Worker, WorkerState, get_current_worker
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
 from tui.app.messages import FitsReady, LogChanged, ScoresChanged
 from tui.app.notices import not_saved, tell
-from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
+from tui.app.screens.column_lines import (
+    CUT_TIP,
+    GROUPS_TIP,
+    HINGE_TIP,
+    KNOT_CHOICES,
+    KNOTS_TIP,
+    RECODED_TIP,
+    SHORT_BELOW,
+    TABLE_TIP,
+    counts_line,
+    heading_line,
+    legend_line,
+    next_choice,
+    score_line,
+    settings_line,
+)
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
@@ -31,31 +46,11 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.forms.spline import KNOT_PERCENTILES
 from tui.engine.groups import GROUP_CHOICES
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
-KNOT_CHOICES = tuple(sorted(KNOT_PERCENTILES))
-GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
-KNOTS_TIP = "Next number of spline knots (3 to 7)"
-CUT_TIP = "Type a cut point for an indicator"
-HINGE_TIP = "Type the knot of a hinge"
-RECODED_TIP = (
-    "Plot the group logits against the highlighted form's fitted linear predictor "
-    "(on the line when the form fits); again: back to the curves"
-)
-TABLE_TIP = "Give the plot the room of the candidate table, or the table back"
-SHORT_BELOW = 32
-"""Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
-
-
-def next_choice(choices: tuple[int, ...], current: int) -> int:
-    """The next choice after ``current`` (wrapping); from a value not offered, the next
-    larger one."""
-    later = [c for c in choices if c > current]
-    return later[0] if later else choices[0]
 
 
 class InspectScreen(Screen[str]):
@@ -238,7 +233,7 @@ class InspectScreen(Screen[str]):
         row = self.highlighted()
         plot = self.query_one(LogitPlot)
         plot.draw(fits, row, self.recoded)
-        self.query_one("#legend", Line).update(self._legend(fits, row, plot))
+        self.query_one("#legend", Line).update(legend_line(fits, row, plot.window(), self.recoded))
         notes = self.query_one("#notes", Line)
         caution = self.query_one("#caution", Line)
         caution.update("")
@@ -257,22 +252,6 @@ class InspectScreen(Screen[str]):
         if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")
             caution.display = True
-
-    def _legend(self, fits: ColumnFits | None, row: FormFit | None, plot: LogitPlot) -> str:
-        """Every mark the plot draws, in words."""
-        adjusted = fits is not None and fits.counts.covariates is not None
-        # The group logits are the column's own: the covariates are in the fits only.
-        groups = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE"
-        if self.recoded:
-            form = form_text(row) if row is not None else "no form"
-            return f"recoded ({form}): {groups} at its linear predictor  · · y = x"
-        legend = f"{groups}  + LOWESS  · · linear"
-        if row is not None and row.kind != "linear" and row.fit is not None:
-            legend += f"  ⠤⠤ {form_text(row)}"
-        window = plot.window()
-        if window is not None and (window.beyond_low or window.beyond_high):
-            legend += "  ◂ ▸ values beyond"
-        return legend
 
     def action_recoded_view(self) -> None:
         """Switch between the curves and the recoded view of the highlighted form."""

@@ -94,6 +94,16 @@ def test_column_inspection(snap_compare, folder: Path, size: tuple[int, int]) ->
 
 
 @pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+def test_recoded_view(snap_compare, folder: Path, size: tuple[int, int]) -> None:
+    async def before(pilot) -> None:
+        await into_column(pilot, "parcel_kg", "quadratic")
+        await pilot.press("v")  # groups against the form's linear predictor
+        await pilot.pause()
+
+    assert snap_compare(fresh_app(folder), terminal_size=size, run_before=before)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
 def test_cut_point_prompt(snap_compare, folder: Path, size: tuple[int, int]) -> None:
     async def before(pilot) -> None:
         await into_column(pilot, "parcel_kg", "linear")

@@ -59,8 +59,8 @@ def test_output_names_follow_the_documented_rule():
     spline = log.decision_for("sodium_mmol_l")
     assert spline.outputs == (
         "sodium_mmol_l__lin",
-        "sodium_mmol_l__rcs1",
-        "sodium_mmol_l__rcs2",
+        "sodium_mmol_l__spl1",
+        "sodium_mmol_l__spl2",
     )
     assert log.decision_for("incision_length_cm").outputs == (
         "incision_length_cm__band1",

@@ -30,8 +30,8 @@ def test_the_worked_row_gives_the_values_the_document_states():
     )
     out = recodings.apply_to_frame(log, row).iloc[0]
     assert out["bearing_temp_c__lin"] == 50.0
-    assert out["bearing_temp_c__rcs1"] == pytest.approx(0.43905, abs=5e-6)
-    assert out["bearing_temp_c__rcs2"] == 0.0
+    assert out["bearing_temp_c__spl1"] == pytest.approx(0.43905, abs=5e-6)
+    assert out["bearing_temp_c__spl2"] == 0.0
     assert out["vibration_mm_s__log"] == pytest.approx(3.69013, abs=5e-6)
     assert out["months_since_service__below"] == 1.0
 
@@ -56,3 +56,18 @@ def test_each_quoted_message_is_the_message_bendwise_gives(line):
     with pytest.raises(recodings.LogProblem) as problem:
         recodings.loads(broken[path], "pumps.recodings.json")
     assert str(problem.value) == line
+
+
+def test_a_log_with_the_older_spline_names_replays_under_them_unchanged():
+    # Outputs are stored per recoding: a log written when spline outputs were named
+    # __rcs1, __rcs2 keeps those names through load, save, replay and SQL.
+    old = _example().replace("bearing_temp_c__spl", "bearing_temp_c__rcs")
+    log = recodings.loads(old, "old.json")
+    assert recodings.dumps(log).replace(log.written_by, "bendwise 0.1.0") == old
+    row = pd.DataFrame(
+        {"bearing_temp_c": [50.0], "vibration_mm_s": [50.0], "months_since_service": [3.0]}
+    )
+    out = recodings.apply_to_frame(log, row).iloc[0]
+    assert out["bearing_temp_c__rcs1"] == pytest.approx(0.43905, abs=5e-6)
+    assert "bearing_temp_c__spl1" not in out.index
+    assert '"bearing_temp_c__rcs2"' in recodings.to_sql(log, "duckdb", table="data")

@@ -24,21 +24,23 @@ from tui.app.commands import ReviewCommands
 from tui.app.fit_cache import FitCache
 from tui.app.messages import (
     ColumnRescored,
+    LogChanged,
     RescoreDone,
     RescoreStarted,
     ScanDone,
     ScanProgress,
     ScoresChanged,
 )
-from tui.app.notices import tell
+from tui.app.notices import not_saved, tell
 from tui.app.screens.cautions_view import CautionsView
 from tui.app.screens.confirm_prompt import ConfirmPrompt
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.help_view import HelpView, Section
 from tui.app.screens.inspect import InspectScreen
+from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.triage import TriageScreen
 from tui.app.screens.value_prompt import ValuePrompt
-from tui.app.session import ReviewSession
+from tui.app.session import LogNotSaved, ReviewSession
 from tui.engine.adjust import Adjustment
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
@@ -79,6 +81,13 @@ class ReviewApp(App[None]):
     BINDINGS = [
         Binding("q", "quit", "Quit", tooltip="Quit (every decision is already saved)", show=False),
         Binding("question_mark,f1", "help", "Help", tooltip="List every key"),
+        Binding(
+            "z",
+            "undo",
+            "Undo",
+            tooltip="Undo the last decision (again: the one before)",
+            show=False,
+        ),
         Binding(
             "exclamation_mark", "cautions", "Cautions", tooltip="Read the cautions", show=False
         ),
@@ -286,6 +295,24 @@ class ReviewApp(App[None]):
             done = len(self.session.ranked)
             total = len(self.session.columns)
             self.triage.scan_progress(done, total, False, problem)
+
+    # --- undo ---------------------------------------------------------------------------
+
+    def action_undo(self) -> None:
+        """Take back the last change to the log (each press walks one further back)."""
+        try:
+            undone = self.session.undo()
+        except LogNotSaved as problem:
+            not_saved(self, problem)
+            return
+        if undone is None:
+            tell(self, "nothing to undo in this review", timeout=3)
+            return
+        if isinstance(self.screen, RecordedView):
+            self.pop_screen()  # it showed the decision just taken back
+        for screen in self.screen_stack:
+            screen.post_message(LogChanged())
+        tell(self, f"undone: {undone} (log saved)", timeout=4)
 
     def help_sections(self) -> list[Section]:
         """What the help screen lists, screen by screen."""

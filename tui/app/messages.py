@@ -65,3 +65,10 @@ class FitsReady(Message):
     def __init__(self, fits: ColumnFits) -> None:
         super().__init__()
         self.fits = fits
+
+
+class LogChanged(Message):
+    """The recoding log changed from elsewhere (an undo): sent to each open screen, which
+    redraws what it shows of the log."""
+
+    bubble = False

@@ -28,8 +28,10 @@ from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
 from tui.recodings.decisions import (
     KEPT_LINEAR,
+    RECODED,
     SET_ASIDE,
     UNDECIDED,
+    DecidedCounts,
     DecisionBook,
     Design,
     LogNotSaved,
@@ -43,6 +45,7 @@ from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 
 __all__ = [
     "KEPT_LINEAR",
+    "RECODED",
     "SET_ASIDE",
     "UNDECIDED",
     "LogNotSaved",
@@ -144,7 +147,19 @@ class ReviewSession:
 
     def decided_count(self) -> int:
         """Columns of this data with a decision or set aside."""
-        return sum(1 for c in self.columns if self.is_decided(c))
+        return self.counts().decided
+
+    def counts(self) -> DecidedCounts:
+        """Columns of this data recoded, kept linear and set aside."""
+        return self.book.counts(self.columns)
+
+    def start_settings(self, column: str) -> tuple[int, int]:
+        """Groups and knots a column opens with: those its decision was judged with, else
+        the scan's."""
+        decision = self.log.decision_for(column)
+        if decision is not None:
+            return decision.evidence.groups, decision.evidence.knots
+        return self.settings.groups, self.settings.knots
 
     def saved_note(self, column: str) -> str:
         """The note the log holds for the column ("" when none)."""
@@ -268,6 +283,11 @@ class ReviewSession:
     def remove(self, column: str) -> str:
         """Remove whatever the log holds for the column and save; returns its note."""
         return self.book.remove(column)
+
+    def undo(self) -> str | None:
+        """Take back the review's last change to the log and save; returns it in words
+        (None when nothing is left to undo). Raises LogNotSaved."""
+        return self.book.undo()
 
     def set_note(self, column: str, note: str) -> bool:
         """Change the note of a decided column and save; False when nothing is recorded

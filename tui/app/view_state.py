@@ -19,6 +19,8 @@ class ReviewView:
     """Hinge knots typed for each column."""
     drafts: dict[str, str] = field(default_factory=dict)
     """Notes typed for columns not yet decided."""
+    settings: dict[str, tuple[int, int]] = field(default_factory=dict)
+    """Groups and knots set on the column screen for each column (while the app runs)."""
 
     def neighbour(self, column: str, step: int) -> str | None:
         """The column ``step`` places away in the list's order (None past either end)."""
@@ -30,6 +32,10 @@ class ReviewView:
     def note(self, column: str, saved: str) -> str:
         """The note to show and record for the column: the draft, else the ``saved`` one."""
         return self.drafts.get(column, saved)
+
+    def settings_of(self, column: str, start: tuple[int, int]) -> tuple[int, int]:
+        """The column's groups and knots: those set for it, else ``start``."""
+        return self.settings.get(column, start)
 
     def add_cut(self, column: str, value: float) -> None:
         """One more indicator cut point typed for ``column``."""

@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 import argparse
+import shutil
 import sys
 
 from tui import recodings
 from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
-from tui.cli.scan_output import as_csv, as_json, as_table
+from tui.cli.scan_output import ELIDE_HELP, as_csv, as_json, as_table
 from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
@@ -28,7 +29,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         "scan",
         help="rank numeric columns by evidence of non-linearity",
         description="Score every numeric column: likelihood-ratio test of a restricted "
-        "cubic spline against a linear term, with Benjamini-Hochberg q-values.",
+        "cubic spline against a linear term, with Benjamini-Hochberg q-values. " + ELIDE_HELP,
     )
     add_data_options(parser)
     add_fit_options(parser)
@@ -108,7 +109,11 @@ def run(args: argparse.Namespace) -> int:
     elif args.format == "csv":
         text = as_csv(ranked)
     else:
-        text = as_table(ranked, adjust.describe() if adjust else "")
+        # Fitted to a terminal; full width into a file or a pipe.
+        width = (
+            shutil.get_terminal_size().columns if sys.stdout.isatty() and not args.output else None
+        )
+        text = as_table(ranked, adjust.describe() if adjust else "", width)
     if args.output:
         atomic_write_text(args.output, text)
     else:

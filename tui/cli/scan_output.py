@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import textwrap
 from collections.abc import Sequence
 
 from tui.cautions import SHORT_CAUTION
@@ -51,14 +52,25 @@ def as_csv(scans: Sequence[ColumnScan]) -> str:
     return out.getvalue()
 
 
+ELIDED_FIRST = ("p", "df", "test", "distinct", "miss", "n", "#", "shape", "ΔAIC", "flags")
+"""Fields a narrow terminal drops, first to last; column, score, q and best form stay."""
+ELIDE_HELP = (
+    "On a terminal the table fits its width, dropping fields in this order: "
+    + ", ".join(ELIDED_FIRST)
+    + " (column, score, q and best form stay). --format csv|json, --output and a pipe "
+    "give every field."
+)
+
+
 def _rows(s: ColumnScan) -> str:
     """Rows used, and beside them the sum of their weights when weighted."""
     return str(s.n) if s.weighted_n is None else f"{s.n} (w {s.weighted_n:.1f})"
 
 
-def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
+def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | None = None) -> str:
     """A fixed-width table, most non-linear first; non-numeric columns are rows of their own
-    (flag ``not-numeric``), listed once like every other column."""
+    (flag ``not-numeric``), listed once like every other column. ``width``: the terminal's
+    columns (fields in ``ELIDED_FIRST`` order give way until the table fits); None: all."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "test", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
     rows = [header]
@@ -82,15 +94,19 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
             )
         )
     widths = [max(len(r[j]) for r in rows) for j in range(len(header))]
-    right = {0, 2, 3, 4, 5, 6, 8, 9, 12}
+    right = {"#", "n", "miss", "distinct", "score", "df", "p", "q", "ΔAIC"}
+    kept = list(range(len(header)))
+    for name in ELIDED_FIRST:
+        if width is None or sum(widths[j] + 2 for j in kept) - 2 <= width:
+            break
+        kept.remove(header.index(name))
     lines = []
     for r in rows:
         cells = [
-            c.rjust(w) if j in right else c.ljust(w)
-            for j, (c, w) in enumerate(zip(r, widths, strict=True))
+            r[j].rjust(widths[j]) if header[j] in right else r[j].ljust(widths[j]) for j in kept
         ]
         lines.append("  ".join(cells).rstrip())
-    lines.insert(1, "  ".join("-" * w for w in widths))
+    lines.insert(1, "  ".join("-" * widths[j] for j in kept))
     scored = sum(1 for s in scans if s.score is not None)
     numeric = sum(1 for s in scans if NOT_NUMERIC not in s.flags)
     lines.append("")
@@ -109,4 +125,8 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     lines.append(f"Caution: {SHORT_CAUTION}")
+    if width is not None:  # the prose lines wrap at the terminal's width as well
+        table, prose = lines[: len(rows) + 1], lines[len(rows) + 1 :]
+        wrapped = [part for line in prose for part in (textwrap.wrap(line, width) or [""])]
+        lines = table + wrapped
     return "\n".join(lines) + "\n"

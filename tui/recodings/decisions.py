@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass, replace
+from collections.abc import Iterable
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -30,6 +31,45 @@ from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 from tui.recodings.save import save
 
 UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"
+RECODED = "recoded"
+"""A column is *decided* when the log holds one of three things for it: a recoding (any
+accepted form other than plain linear), kept linear, or set aside. Every surface counts
+these three (``DecidedCounts``)."""
+
+
+@dataclass(frozen=True)
+class DecidedCounts:
+    """How many columns are recoded, kept linear and set aside (together: decided)."""
+
+    recoded: int = 0
+    kept_linear: int = 0
+    set_aside: int = 0
+
+    @property
+    def decided(self) -> int:
+        """Columns with anything in the log."""
+        return self.recoded + self.kept_linear + self.set_aside
+
+    def words(self) -> str:
+        """``2 recoded · 1 kept linear · 0 set aside``."""
+        return (
+            f"{self.recoded} {RECODED} · {self.kept_linear} {KEPT_LINEAR} · "
+            f"{self.set_aside} {SET_ASIDE}"
+        )
+
+
+def is_kept_linear(recoding: Recoding) -> bool:
+    """A plain linear term (a clipped or filled linear term is a recoding)."""
+    return recoding.kind == "linear" and recoding.clip is None and recoding.missing is None
+
+
+def decided_counts(log: RecodingLog, columns: Iterable[str] | None = None) -> DecidedCounts:
+    """The three counts of ``log``, over ``columns`` only when given."""
+    wanted = None if columns is None else set(columns)
+    chosen = [d for d in log.decisions if wanted is None or d.column in wanted]
+    linear = sum(1 for d in chosen if is_kept_linear(d.recoding))
+    aside = sum(1 for s in log.set_aside if wanted is None or s.column in wanted)
+    return DecidedCounts(len(chosen) - linear, linear, aside)
 
 
 class LogNotSaved(Exception):
@@ -162,6 +202,10 @@ class DecisionBook:
     """The decisions as saved on disk."""
     path: Path
     """Where the log is saved."""
+    history: list[tuple[RecodingLog, str]] = field(default_factory=list)
+    """Each earlier log of this review with the change made from it, oldest first: ``undo``
+    walks back through them (the review's own changes only, never what the file held
+    before it started)."""
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
@@ -170,8 +214,7 @@ class DecisionBook:
         decision = self.log.decision_for(column)
         if decision is None:
             return UNDECIDED
-        recoding = decision.recoding
-        if recoding.kind == "linear" and recoding.clip is None and recoding.missing is None:
+        if is_kept_linear(decision.recoding):
             return KEPT_LINEAR
         return decision.recoding.describe()
 
@@ -202,7 +245,8 @@ class DecisionBook:
         decision = Decision.make(
             column, recoding, training_range, note=note, evidence=evidence, taken=taken
         )
-        self._commit(self.log.with_decision(decision))
+        what = KEPT_LINEAR if is_kept_linear(recoding) else recoding.describe()
+        self._commit(self.log.with_decision(decision), f"{column} {what}")
         return decision
 
     def set_missing(
@@ -229,13 +273,13 @@ class DecisionBook:
     def set_aside(self, column: str, note: str) -> SetAside:
         """Record that the column is not to be used, and save the log."""
         entry = SetAside(column, note=note)
-        self._commit(self.log.with_set_aside(entry))
+        self._commit(self.log.with_set_aside(entry), f"{column} {SET_ASIDE}")
         return entry
 
     def remove(self, column: str) -> str:
         """Remove whatever the log holds for the column and save; returns its note."""
         note = self.saved_note(column)
-        self._commit(self.log.without(column))
+        self._commit(self.log.without(column), f"{column} removed from the log")
         return note
 
     def set_note(self, column: str, note: str) -> bool:
@@ -245,17 +289,42 @@ class DecisionBook:
         if decision is not None:
             changed = replace(decision, note=note)
             decisions = tuple(changed if d.column == column else d for d in self.log.decisions)
-            self._commit(replace(self.log, decisions=decisions))
+            self._commit(replace(self.log, decisions=decisions), f"note on {column}")
             return True
         if self.log.is_set_aside(column):
             entries = tuple(
                 replace(s, note=note) if s.column == column else s for s in self.log.set_aside
             )
-            self._commit(replace(self.log, set_aside=entries))
+            self._commit(replace(self.log, set_aside=entries), f"note on {column}")
             return True
         return False
 
-    def _commit(self, log: RecodingLog) -> None:
+    def counts(self, columns: Iterable[str] | None = None) -> DecidedCounts:
+        """Recoded, kept linear and set aside (over ``columns`` when given)."""
+        return decided_counts(self.log, columns)
+
+    def last_change(self) -> str | None:
+        """The change ``undo`` would take back, in words (None when there is none)."""
+        return self.history[-1][1] if self.history else None
+
+    def undo(self) -> str | None:
+        """Take back the last change of this review and save the log as it was before it;
+        returns the change undone (None when nothing is left to undo). Raises LogNotSaved,
+        and then nothing changes."""
+        if not self.history:
+            return None
+        before, what = self.history[-1]
+        self._save(before)
+        self.history.pop()
+        self.log = before
+        return what
+
+    def _commit(self, log: RecodingLog, what: str) -> None:
+        self._save(log)
+        self.history.append((self.log, what))
+        self.log = log
+
+    def _save(self, log: RecodingLog) -> None:
         try:
             save(log, self.path)
         except InputProblem as problem:  # the log module's one error type (names the file)
@@ -263,4 +332,3 @@ class DecisionBook:
         except OSError as problem:
             reason = problem.strerror or str(problem)
             raise LogNotSaved(f"cannot write {self.path}: {reason}") from problem
-        self.log = log

@@ -15,12 +15,15 @@ from tui.engine.column_fits import CandidateSet, fit_column
 from tui.engine.compare import FormFit
 from tui.engine.counts import reduce_column
 from tui.engine.groups import logit_groups
+from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
+from tui.engine.smoother import smoothed_log_odds
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
+from tui.recodings.decisions import decided_counts
 from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
@@ -66,7 +69,8 @@ class FormLine:
 
 @dataclass(frozen=True)
 class Curve:
-    """Fitted log-odds on a grid between the first and last group medians."""
+    """Fitted log-odds on a grid across the plot window's x range; NaN where a curve
+    leaves the window (cut there, as on the review screen)."""
 
     x: tuple[float, ...]
     linear: tuple[float, ...]
@@ -89,6 +93,10 @@ class DecisionSection:
     curve: Curve | None
     withheld_groups: int
     missing: MissingPart | None = None
+    window: PlotWindow | None = None
+    """The picture's window, set as the review screen sets it (``plot_window``)."""
+    smoother: tuple[tuple[float, ...], tuple[float, ...]] | None = None
+    """The LOWESS smoother inside the window (x, log-odds), as on the review screen."""
 
 
 @dataclass(frozen=True)
@@ -158,10 +166,12 @@ def _section(
     chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
     forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
 
-    lines, withheld = [], 0
+    lines, withheld, shown = [], 0, []
     for i, g in enumerate(logit_groups(plain, groups_n), 1):
         safe = group_is_safe(g.n, g.events, min_cell)
         withheld += 0 if safe else 1
+        if safe and g.n >= min_cell:
+            shown.append(g)  # the window comes from what the report prints only
         lines.append(
             GroupLine(
                 rank=i,
@@ -173,14 +183,19 @@ def _section(
                 se=g.se if safe else None,
             )
         )
-    medians = [g.median for g in lines if g.median is not None]
-    curve = None
-    if len(medians) >= 2 and chosen.fit is not None and table.linear.fit is not None:
-        grid = np.linspace(medians[0], medians[-1], 61)
+    curve, window, smooth = None, None, None
+    if len(shown) >= 2:
+        sx, sy = smoothed_log_odds(plain)
+        window = plot_window(plain, shown, (sx, sy))
+        inside = (sx >= window.x_low) & (sx <= window.x_high) & np.isfinite(sy)
+        if inside.any():
+            smooth = (tuple(float(v) for v in sx[inside]), tuple(float(v) for v in sy[inside]))
+    if window is not None and chosen.fit is not None and table.linear.fit is not None:
+        grid = window.grid(121)
         curve = Curve(
             tuple(float(v) for v in grid),
-            tuple(float(v) for v in table.linear.log_odds(grid)),
-            tuple(float(v) for v in chosen.log_odds(grid)),
+            tuple(float(v) for v in window.clip(table.linear.log_odds(grid))),
+            tuple(float(v) for v in window.clip(chosen.log_odds(grid))),
         )
     return DecisionSection(
         column=decision.column,
@@ -195,6 +210,8 @@ def _section(
         curve=curve,
         withheld_groups=withheld,
         missing=missing_part(data, decision, min_cell),
+        window=window,
+        smoother=smooth,
     )
 
 
@@ -234,6 +251,7 @@ def build_report(
         covariates = decision.evidence.adjusted_for
         return open_adjustment(data, log.outcome_column, covariates, weight, weight_kind, forms)
 
+    counts = decided_counts(log)
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
     sha = file_sha256(data.path)
     adjust = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
@@ -254,8 +272,11 @@ def build_report(
     summary = {
         "numeric columns scanned": str(len(scans)),
         f"columns with q < {Q_LINEAR} (spline against linear)": str(flagged),
-        "columns decided": str(len(log.decisions)),
-        "columns set aside": str(len(log.set_aside)),
+        # Decided: recoded, kept linear or set aside (the three counts of every surface).
+        "columns decided": str(counts.decided),
+        "columns recoded": str(counts.recoded),
+        "columns kept linear": str(counts.kept_linear),
+        "columns set aside": str(counts.set_aside),
         "adjusted for": ", ".join(adjust) if adjust else "nothing (one column at a time)",
         "weights": ", ".join(weights) if weights else "none",
     }

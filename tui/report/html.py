@@ -14,6 +14,7 @@ body { font-family: sans-serif; max-width: 60em; margin: 2em auto; line-height: 
 table { border-collapse: collapse; margin: 0.5em 0 1em; }
 th, td { border: 1px solid #888; padding: 0.2em 0.5em; text-align: left; }
 td.num { text-align: right; }
+svg { max-width: 100%; height: auto; }
 tr.accepted td { font-weight: bold; }
 """
 
@@ -27,7 +28,7 @@ def _table(header: list[str], rows: list[list[str]], classes: list[str] | None =
     return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
 
 
-def _decision(d: DecisionSection) -> str:
+def _decision(d: DecisionSection, outcome: str) -> str:
     parts = [
         f"<h3>{escape(d.column)}</h3>",
         f"<p><strong>Accepted form:</strong> {escape(d.form)} — {escape(d.in_words)}.</p>",
@@ -51,10 +52,12 @@ def _decision(d: DecisionSection) -> str:
     parts.append(
         _table(["group", "median x", "rows", "events", "non-events", "logit", "SE"], grows)
     )
-    parts.append(svg_plot(d.groups, d.curve))
+    parts.append(svg_plot(d, outcome))
     parts.append(
-        "<p>Dots: group empirical logits with ±1.96 SE; "
-        "dashed: linear fit; solid: accepted form.</p>"
+        "<p>Dots: group empirical logits with ±1.96 SE; dashed: linear fit; solid: accepted "
+        "form; dotted: LOWESS smoother. The window spans the central 95% of rows and the "
+        "groups (&lt; &gt; where values lie beyond) and the groups' intervals; curves are "
+        "cut at its edges.</p>"
     )
     if d.missing is not None:
         text = " ".join(missing_sentences(d.missing)).replace("`", "")
@@ -81,7 +84,7 @@ def render_html(report: ReportContent) -> str:
     ]
     if not report.decisions:
         parts.append("<p>No recodings recorded.</p>")
-    parts += [_decision(d) for d in report.decisions]
+    parts += [_decision(d, report.fingerprint["outcome"]) for d in report.decisions]
     if report.set_aside:
         parts.append("<h2>Set aside</h2><ul>")
         parts += [f"<li>{escape(c)}: {escape(n or '(no note)')}</li>" for c, n in report.set_aside]

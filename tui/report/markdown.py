@@ -48,7 +48,7 @@ def _decision(d: DecisionSection) -> list[str]:
         for g in d.groups
     ]
     out += _table(["group", "median x", "rows", "events", "non-events", "logit", "SE"], grows)
-    out += ["", "```", text_plot(d.groups, d.curve), "```", ""]
+    out += ["", "```", text_plot(d.groups, d.curve, d.window, d.smoother), "```", ""]
     if d.missing is not None:
         out += [" ".join(missing_sentences(d.missing)), ""]
     out += [f"**Note:** {d.note or '(none recorded)'}", ""]

@@ -1,58 +1,83 @@
-"""The grouped empirical logits and fitted curves as inline SVG (no scripts, no links)."""
+"""The report's picture as inline SVG drawn by matplotlib: ticks and labels on both axes,
+axis titles, the groups with their intervals, the linear and accepted curves, the LOWESS
+smoother and a legend, in the window the review screen uses. The SVG is cut down to what
+an HTML page needs inline: no XML prolog, no DTD, no namespace URLs, no metadata, no
+script, text kept as text; ids are salted per column so several pictures share a page."""
 
 from __future__ import annotations
 
-from tui.report.content import Curve, GroupLine
+import io
+import re
 
-W, H, PAD = 560, 300, 48
+import matplotlib
+from matplotlib.figure import Figure
+
+from tui.report.content import DecisionSection
+
+WIDTH_IN, HEIGHT_IN = 7.0, 4.2
+"""Inches: about the width of a printed page's text block."""
+NO_METADATA = {"Creator": None, "Date": None, "Format": None, "Type": None}
+_DROPPED = [
+    re.compile(r"<\?xml[^>]*\?>\s*"),
+    re.compile(r"<!DOCTYPE[^>]*>\s*", re.DOTALL),
+    re.compile(r'\s+xmlns(:\w+)?="[^"]*"'),
+    re.compile(r"<metadata>.*?</metadata>\s*", re.DOTALL),
+]
 
 
-def svg_plot(groups: tuple[GroupLine, ...], curve: Curve | None) -> str:
-    points = [g for g in groups if g.logit is not None and g.median is not None]
-    xs = [g.median for g in points] + (list(curve.x) if curve else [])
-    ys = [g.logit + s * 1.96 * g.se for g in points for s in (-1, 1)]  # type: ignore[operator]
-    if curve:
-        ys += list(curve.linear) + list(curve.accepted)
-    if len(xs) < 2 or not ys:
+def svg_plot(d: DecisionSection, outcome: str) -> str:
+    """The decision's picture as an ``<svg>`` element (or a short note when too few
+    groups can be shown)."""
+    points = [g for g in d.groups if g.logit is not None and g.median is not None]
+    window = d.window
+    if window is None or len(points) < 2:
         return "<p>(too few groups to draw)</p>"
-    x0, x1, y0, y1 = min(xs), max(xs), min(ys), max(ys)  # type: ignore[type-var]
-    x1 = x1 if x1 > x0 else x0 + 1
-    y1 = y1 if y1 > y0 else y0 + 1
+    style = {"svg.hashsalt": f"bendwise-{d.column}", "svg.fonttype": "none", "font.size": 9}
+    with matplotlib.rc_context(style):
+        fig = Figure(figsize=(WIDTH_IN, HEIGHT_IN))
+        ax = fig.add_subplot()
+        if d.smoother:
+            ax.plot(*d.smoother, color="#2a7d2a", linestyle=":", linewidth=1.6,
+                    label="LOWESS smoother")  # fmt: skip
+        if d.curve:
+            ax.plot(d.curve.x, d.curve.linear, color="#555555", linestyle="--", linewidth=1.2,
+                    label="linear fit")  # fmt: skip
+            ax.plot(d.curve.x, d.curve.accepted, color="#b35900", linewidth=1.8,
+                    label=f"accepted: {d.form}")  # fmt: skip
+        ax.errorbar(
+            [g.median for g in points],
+            [g.logit for g in points],
+            yerr=[1.96 * g.se for g in points],  # type: ignore[operator]
+            fmt="o", color="black", markersize=5, capsize=3, linewidth=1,
+            label="quantile group: empirical logit ± 1.96 SE",
+        )  # fmt: skip
+        beyond = [(window.beyond_low, window.x_low, "<"), (window.beyond_high, window.x_high, ">")]
+        shown = [(x, m) for flag, x, m in beyond if flag]
+        for i, (x, mark) in enumerate(shown):
+            label = "values beyond the window" if i == 0 else None
+            ax.plot([x], [window.y_low], marker=mark, color="black", linestyle="none",
+                    markersize=7, clip_on=False, label=label)  # fmt: skip
+        ax.set_xlim(window.x_low, window.x_high)
+        ax.set_ylim(window.y_low, window.y_high)
+        ax.set_xlabel(f"{d.column} (central 95% of rows)")
+        ax.set_ylabel(f"log-odds of {outcome}")
+        ax.grid(True, color="#dddddd", linewidth=0.6)
+        ax.legend(loc="best", fontsize=8, framealpha=0.9)
+        fig.tight_layout()
+        out = io.StringIO()
+        fig.savefig(out, format="svg", metadata=NO_METADATA)
+    svg = out.getvalue()
+    for pattern in _DROPPED:
+        svg = pattern.sub("", svg)
+    # matplotlib names its groups figure_1, axes_1, ... in every picture: ids nothing
+    # refers to are dropped, so pictures on one page never share an id.
+    used = set(re.findall(r"#([\w.-]+)", svg))
+    svg = re.sub(r'\s+id="([^"]+)"', lambda m: m[0] if m[1] in used else "", svg)
+    label = f'role="img" aria-label="{_attr(d.column)}: grouped empirical logits and fits"'
+    return svg.replace("<svg ", f"<svg {label} ", 1).strip()
 
-    def px(x: float) -> float:
-        return PAD + (x - x0) / (x1 - x0) * (W - 2 * PAD)
 
-    def py(y: float) -> float:
-        return H - PAD - (y - y0) / (y1 - y0) * (H - 2 * PAD)
-
-    parts = [
-        f'<svg width="{W}" height="{H}" '
-        f'viewBox="0 0 {W} {H}" role="img" aria-label="grouped empirical logits">',
-        f'<rect x="0" y="0" width="{W}" height="{H}" fill="white"/>',
-        f'<line x1="{PAD}" y1="{H - PAD}" x2="{W - PAD}" y2="{H - PAD}" stroke="black"/>',
-        f'<line x1="{PAD}" y1="{PAD}" x2="{PAD}" y2="{H - PAD}" stroke="black"/>',
-    ]
-    if curve:
-        for values, style in ((curve.linear, 'stroke-dasharray="4 3"'), (curve.accepted, "")):
-            path = " ".join(
-                f"{px(x):.1f},{py(y):.1f}" for x, y in zip(curve.x, values, strict=True)
-            )
-            parts.append(
-                f'<polyline points="{path}" fill="none" stroke="black" stroke-width="1.5" {style}/>'
-            )
-    for g in points:
-        cx = px(g.median)  # type: ignore[arg-type]
-        lo = py(g.logit - 1.96 * g.se)  # type: ignore[operator]
-        hi = py(g.logit + 1.96 * g.se)  # type: ignore[operator]
-        parts.append(
-            f'<line x1="{cx:.1f}" y1="{lo:.1f}" x2="{cx:.1f}" y2="{hi:.1f}" stroke="black"/>'
-        )
-        parts.append(f'<circle cx="{cx:.1f}" cy="{py(g.logit):.1f}" r="4" fill="black"/>')  # type: ignore[arg-type]
-    parts.append(f'<text x="{PAD}" y="{H - 16}" font-size="11">{x0:.4g}</text>')
-    parts.append(
-        f'<text x="{W - PAD}" y="{H - 16}" font-size="11" text-anchor="end">{x1:.4g}</text>'
+def _attr(text: str) -> str:
+    return (
+        text.replace("&", "&amp;").replace('"', "&quot;").replace("<", "&lt;").replace(">", "&gt;")
     )
-    parts.append(f'<text x="4" y="{PAD}" font-size="11">{y1:.2f}</text>')
-    parts.append(f'<text x="4" y="{H - PAD}" font-size="11">{y0:.2f}</text>')
-    parts.append("</svg>")
-    return "\n".join(parts)

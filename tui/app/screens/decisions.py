@@ -4,17 +4,20 @@ from __future__ import annotations
 
 import os
 
+from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer
 
+from tui.app.messages import LogChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens.confirm_prompt import ConfirmPrompt
 from tui.app.session import SET_ASIDE, LogNotSaved, ReviewSession
 from tui.app.text import path_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.app.widgets.line import Line
+from tui.recodings.decisions import decided_counts
 
 
 def log_rows(session: ReviewSession) -> list[Row]:
@@ -49,10 +52,6 @@ def log_rows(session: ReviewSession) -> list[Row]:
             )
         )
     return rows
-
-
-def _count(n: int, word: str) -> str:
-    return f"{n} {word}" + ("" if n == 1 else "s")
 
 
 class LogTable(KeyTable):
@@ -97,12 +96,17 @@ class DecisionsScreen(Screen[str | None]):
         self.query_one(LogTable).focus()
         self.redraw()
 
+    @on(LogChanged)
+    def log_changed(self) -> None:
+        """The log changed (an undo)."""
+        self.redraw()
+
     def redraw(self) -> None:
         """Show the log as it is on disk now."""
         s = self.session
         path = path_text(str(s.log_path), os.getcwd())
         log = s.log
-        count = f"{_count(len(log.decisions), 'recoding')}, {len(log.set_aside)} set aside"
+        count = decided_counts(log).words()
         state = "saved" if s.log_path.exists() else "not written yet (nothing decided)"
         self.query_one("#file", Line).update(f"{path} · {count} · {state}")
         warning = self.query_one("#warning", Line)

@@ -10,6 +10,7 @@ from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 
 from tui.app.widgets.line import Line
+from tui.app.widgets.triage_table import TriageTable
 
 Section = tuple[str, Sequence[Binding]]
 """A heading and the bindings listed under it."""
@@ -18,10 +19,18 @@ MARKS = (
     "Marks before a column name: ✓ a form accepted · = kept linear · × set aside · "
     "! flagged (see the flags field).",
     "Plot: ● empirical logit of a quantile group at its median, │ ±1.96 standard errors, "
-    "· · · linear fit, braille line the highlighted form.",
+    "+ LOWESS smoother, · · · linear fit, braille line the highlighted form, ◂ ▸ values "
+    "beyond the window (x spans the central 95% of rows and the groups; y the groups' "
+    "intervals and the smoother; curves are cut at its edges).",
+    "Recoded view (v): each group's logit against the highlighted form's mean fitted "
+    "linear predictor, with the line y = x (· · ·) the groups follow when the form fits.",
     "Shape hints: linear · monotone-curve · u-shape (lowest inside the range) · hump "
     "(highest inside: an inverted U) · threshold (a step). A hint, not a verdict.",
     "q-values and shape hints read … until every column is scanned.",
+    "A narrow list drops fields in this order, first to last: "
+    + TriageTable.gives_way()
+    + " (the column name stays). Which fields show depends on the width only; the line "
+    "under the list always gives n, missing, distinct and flags of the highlighted column.",
     "adj (once a score is adjusted): - unadjusted, +N adjusted for N columns, named under "
     "the list. The working model: every column accepted or kept linear, in its form, and "
     "the --adjust columns; set-aside columns stay out.",

@@ -14,10 +14,25 @@ from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
-from tui.app.messages import FitsReady, ScoresChanged
+from tui.app.messages import FitsReady, LogChanged, ScoresChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens import missing_hooks
-from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
+from tui.app.screens.column_lines import (
+    CUT_TIP,
+    GROUPS_TIP,
+    HINGE_TIP,
+    KNOT_CHOICES,
+    KNOTS_TIP,
+    RECODED_TIP,
+    SHORT_BELOW,
+    TABLE_TIP,
+    counts_line,
+    heading_line,
+    legend_line,
+    next_choice,
+    score_line,
+    settings_line,
+)
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
@@ -34,27 +49,12 @@ from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.forms.spline import KNOT_PERCENTILES, SPLINE
 from tui.engine.groups import GROUP_CHOICES
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
-KNOT_CHOICES = tuple(sorted(KNOT_PERCENTILES))
-GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
-KNOTS_TIP = "Next number of spline knots (3 to 7)"
-CUT_TIP = "Type a cut point for an indicator"
-HINGE_TIP = "Type the knot of a hinge"
 MISSING_TIP = "Code a missing x for the accepted form: leave, fill, or fill + indicator"
-SHORT_BELOW = 32
-"""Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
-
-
-def next_choice(choices: tuple[int, ...], current: int) -> int:
-    """The next choice after ``current`` (wrapping); from a value not offered, the next
-    larger one."""
-    later = [c for c in choices if c > current]
-    return later[0] if later else choices[0]
 
 
 class InspectScreen(Screen[str]):
@@ -76,16 +76,18 @@ class InspectScreen(Screen[str]):
         Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
         Binding("f", "code_missing", "Missing", tooltip=MISSING_TIP, show=False),
+        Binding("v", "recoded_view", "Recoded view", tooltip=RECODED_TIP, show=False),
+        Binding("t", "toggle_table", "Table", tooltip=TABLE_TIP, show=False),
     ]
 
     def __init__(self, session: ReviewSession, cache: FitCache, column: str) -> None:
         super().__init__()
         self.session, self.cache, self.column = session, cache, column
         self.view: ReviewView = session.view  # the list's order, typed numbers, drafts
-        self.groups = session.settings.groups
-        self.knots = session.settings.knots
         self.fits: ColumnFits | None = None
         self._want_key: str | None = None
+        self.recoded = False
+        """The plot shows the recoded view (groups against the form's linear predictor)."""
 
     def compose(self) -> ComposeResult:
         yield Line("", id="heading")
@@ -108,6 +110,16 @@ class InspectScreen(Screen[str]):
         self.show_column(self.column)
 
     # --- what is shown --------------------------------------------------------------------
+
+    @property
+    def groups(self) -> int:
+        """Quantile groups set for this column (remembered per column while the app runs)."""
+        return self.view.settings_of(self.column, self.session.start_settings(self.column))[0]
+
+    @property
+    def knots(self) -> int:
+        """Spline knots set for this column."""
+        return self.view.settings_of(self.column, self.session.start_settings(self.column))[1]
 
     def request(self) -> FitRequest:
         """The fits wanted now."""
@@ -228,20 +240,15 @@ class InspectScreen(Screen[str]):
         """Redraw the candidate curve, the legend and the notes for the highlighted row."""
         fits = self.fits
         row = self.highlighted()
-        self.query_one(LogitPlot).draw(fits, row)
-        adjusted = fits is not None and fits.counts.covariates is not None
-        # The group logits are the column's own: the covariates are in the fits only.
-        legend = f"● group logit{' (unadjusted)' if adjusted else ''}  │ ±1.96 SE  + LOWESS"
-        legend += "  · · linear"
-        if row is not None and row.kind != "linear" and row.fit is not None:
-            legend += f"  ⠤⠤ {form_text(row)}"
-        self.query_one("#legend", Line).update(legend)
+        plot = self.query_one(LogitPlot)
+        plot.draw(fits, row, self.recoded)
+        self.query_one("#legend", Line).update(legend_line(fits, row, plot.window(), self.recoded))
         notes = self.query_one("#notes", Line)
         caution = self.query_one("#caution", Line)
         caution.update("")
         caution.display = False
         if fits is not None and fits.problem is not None:
-            notes.update(f"✗ {fits.problem}")
+            notes.update(f"about this column: {fits.problem}")  # information, not an error
             return
         if row is None or fits is None:
             notes.update("")
@@ -254,6 +261,19 @@ class InspectScreen(Screen[str]):
         if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")
             caution.display = True
+
+    def action_recoded_view(self) -> None:
+        """Switch between the curves and the recoded view of the highlighted form."""
+        row = self.highlighted()
+        if not self.recoded and (row is None or row.fit is None):
+            tell(self, "highlight a fitted form first", severity="warning")
+            return
+        self.recoded = not self.recoded
+        self._refresh_row()
+
+    def action_toggle_table(self) -> None:
+        """Give the plot the candidate table's room (the highlighted row stays), or back."""
+        self.toggle_class("-plot-first")
 
     def on_resize(self) -> None:
         # Short terminals give the plot the room and let the table scroll.
@@ -311,6 +331,9 @@ class InspectScreen(Screen[str]):
 
     def action_set_aside(self) -> None:
         """Record that this column is not to be used."""
+        if self.fits is None:  # nothing shown yet: a key typed on the way here, not a choice
+            tell(self, "wait for the column's fits before setting it aside", severity="warning")
+            return
         try:
             self.session.set_aside(self.column, self.note())
         except LogNotSaved as problem:
@@ -318,7 +341,7 @@ class InspectScreen(Screen[str]):
             return
         self.view.drafts.pop(self.column, None)
         self._after_change()
-        tell(self, f"{self.column} set aside (saved)", timeout=3)
+        tell(self, f"recorded: {self.column} set aside (saved), z undoes", timeout=4)
 
     def action_note(self) -> None:
         """Add or edit the note on this column."""
@@ -342,6 +365,11 @@ class InspectScreen(Screen[str]):
         tell(self, text, timeout=3)
         self._refresh_heading()
 
+    @on(LogChanged)
+    def log_changed(self) -> None:
+        """The log changed elsewhere (an undo): show the column's decision as it is now."""
+        self._after_change()
+
     def _after_change(self) -> None:
         if self.fits is not None:
             self.query_one(FormsTable).show(self.fits, self._accepted())
@@ -351,15 +379,16 @@ class InspectScreen(Screen[str]):
 
     def action_cycle_groups(self) -> None:
         """Next number of quantile groups (4, 5, 10, 20)."""
-        self.groups = next_choice(GROUP_CHOICES, self.groups)
+        self.view.settings[self.column] = (next_choice(GROUP_CHOICES, self.groups), self.knots)
         self._refresh_heading()
         self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def action_cycle_knots(self) -> None:
         """Next number of spline knots (3 to 7)."""
-        self.knots = next_choice(KNOT_CHOICES, self.knots)
+        self.view.settings[self.column] = (self.groups, next_choice(KNOT_CHOICES, self.knots))
         self._refresh_heading()
-        self._load(SPLINE.key)
+        # The highlight stays where it is: the spline row is refitted, not chosen.
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def _range(self) -> tuple[float, float] | None:
         profile = self.session.profile_of(self.column)

@@ -6,14 +6,20 @@ import numpy as np
 from rich.table import Table
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import VerticalScroll
+from textual.containers import HorizontalScroll, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
 
 from tui.app.widgets.line import Line
+from tui.recodings.decisions import KEPT_LINEAR, is_kept_linear
 from tui.recodings.model import Decision
 
 PREVIEW_ROWS = 8
+
+
+def decision_text(decision: Decision) -> str:
+    """``kept linear`` or the accepted form."""
+    return KEPT_LINEAR if is_kept_linear(decision.recoding) else decision.recoding.describe()
 
 
 def _value(v: float) -> str:
@@ -25,11 +31,10 @@ def preview_table(decision: Decision, x: np.ndarray) -> Table:
     runs, so these are the numbers a replayed file will hold)."""
     shown = np.asarray(x[:PREVIEW_ROWS], dtype=float)
     outputs = decision.recoding.apply(shown)
-    table = Table(box=None, pad_edge=False, header_style="bold")
-    table.add_column("row", justify="right")
-    table.add_column(decision.column, justify="right")
-    for name in decision.recoding.suffixes():
-        table.add_column(name, justify="right")
+    table = Table(box=None, pad_edge=False, header_style="bold", expand=False)
+    # Every output in full: names and values never fold or cut (the box scrolls sideways).
+    for name in ("row", decision.column, *decision.outputs):
+        table.add_column(name, justify="right", no_wrap=True, min_width=len(name))
     for i, (value, out) in enumerate(zip(shown, outputs, strict=True), 1):
         table.add_row(str(i), _value(value), *(_value(v) for v in out))
     return table
@@ -39,7 +44,12 @@ class RecordedView(ModalScreen[None]):
     """Confirms a decision and shows it applied to the first rows."""
 
     CSS_PATH = "recorded_view.tcss"
-    BINDINGS = [Binding("escape,enter,q", "close", "Close")]
+    BINDINGS = [
+        Binding("escape,enter,q", "close", "Close"),
+        Binding("z", "app.undo", "Undo", tooltip="Undo this decision"),
+        Binding("left", "scroll(-8)", "Scroll left", show=False),
+        Binding("right", "scroll(8)", "Scroll right", show=False),
+    ]
 
     def __init__(self, decision: Decision, x: np.ndarray, log_name: str) -> None:
         super().__init__()
@@ -50,12 +60,17 @@ class RecordedView(ModalScreen[None]):
     def compose(self) -> ComposeResult:
         d = self._decision
         with VerticalScroll(id="box"):
-            yield Line(f"Saved to {self._log_name}", id="title")
-            yield Line(f"{d.column}: {d.recoding.describe()}")
+            yield Line(f"recorded: {d.column} {decision_text(d)}, z undoes", id="title")
+            yield Line(f"saved to {self._log_name}")
             yield Line(f"new columns: {', '.join(d.outputs)}", id="outputs")
             yield Line(f"First {PREVIEW_ROWS} rows, recoded exactly as replay will:")
-            yield Static(self.preview, id="preview")
-            yield Line("Enter or Esc: back", id="keys")
+            with HorizontalScroll(id="wide"):
+                yield Static(self.preview, id="preview")
+            yield Line("Enter or Esc: back · ← → scroll sideways · z: undo", id="keys")
+
+    def action_scroll(self, step: int) -> None:
+        """Scroll the preview sideways."""
+        self.query_one("#wide", HorizontalScroll).scroll_relative(x=step, animate=False)
 
     def action_close(self) -> None:
         self.dismiss(None)

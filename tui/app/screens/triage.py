@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from textual import events
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
@@ -13,6 +13,7 @@ from textual.timer import Timer
 from textual.widgets import DataTable, Footer, Input, ProgressBar
 
 from tui.app.fit_cache import FitCache
+from tui.app.messages import LogChanged
 from tui.app.notices import tell
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.inspect import InspectScreen
@@ -25,7 +26,6 @@ from tui.engine.scan import ColumnScan
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
 """Orders of the list, in the order the sort key steps through them."""
-MOVING_KEYS = {"up", "down", "j", "k", "pageup", "pagedown", "home", "end"}
 REFRESH_SECONDS = 0.2
 """While the scan runs, the list is redrawn at most this often."""
 
@@ -126,6 +126,11 @@ class TriageScreen(Screen[None]):
     def on_screen_resume(self) -> None:
         self.redraw()
 
+    @on(LogChanged)
+    def log_changed(self) -> None:
+        """The log changed from another screen (an undo)."""
+        self.redraw()
+
     # --- the scan reports here (from the app) ---------------------------------------------
 
     def scan_progress(
@@ -186,7 +191,9 @@ class TriageScreen(Screen[None]):
         self.set_class(table.adjusted_shown, "-adjusted")
         if self._follow_top:
             table.move_to_key(None)
-        parts = [f"{s.decided_count()} of {len(s.columns)} decided", f"sorted by {self.sort}"]
+        counts = s.counts()
+        decided = f"{counts.decided} of {len(s.columns)} decided: {counts.words()}"
+        parts = [decided, f"sorted by {self.sort}"]
         if self._filter:
             parts.append(f"names containing '{self._filter}'")
         if self.hide_decided:
@@ -225,15 +232,17 @@ class TriageScreen(Screen[None]):
         if self.query_one(TriageTable).adjusted_shown:
             named = ", ".join(scan.adjusted_for)
             basis = f"score adjusted for {named} · " if named else "score unadjusted · "
+        # n, missing, distinct and flags first: the list may have no room for them.
         detail.update(
-            f"{scan.column}: {basis}n {scan.n} · missing {scan.missing} · distinct "
-            f"{scan.distinct} · best {best} (ΔAIC {number_text(scan.delta_aic)}) · flags "
-            f"{', '.join(scan.flags) or 'none'} · {self.session.decision_phrase(scan.column)}"
+            f"{scan.column}: n {scan.n} · missing {scan.missing} · distinct {scan.distinct} · "
+            f"flags {', '.join(scan.flags) or 'none'} · {basis}best {best} (ΔAIC "
+            f"{number_text(scan.delta_aic)}) · {self.session.decision_phrase(scan.column)}"
         )
 
     def on_key(self, event: events.Key) -> None:
-        if event.key in MOVING_KEYS:
-            self._follow_top = False
+        # Any key (a move, a sort, a filter) ends following the top: from then on the
+        # cursor stays on its column however the list is re-ranked or re-sorted.
+        self._follow_top = False
         # Keys typed quickly after the slash arrive before its binding runs and before
         # focus reaches the box: open the box here and keep what is typed.
         box = self.query_one("#filter", Input)
@@ -243,6 +252,12 @@ class TriageScreen(Screen[None]):
         elif self._opening_filter and event.is_printable and event.character:
             box.insert_text_at_cursor(event.character)
             event.stop()
+        elif self._opening_filter and event.key == "enter":
+            # Enter typed for the filter must never open a column (and so never lets the
+            # letters after it reach the column screen, where letters decide).
+            event.stop()
+            self._opening_filter = False
+            self.on_input_submitted(Input.Submitted(box, box.value))
 
     def on_descendant_focus(self, event: events.DescendantFocus) -> None:
         if event.widget is self.query_one("#filter", Input):

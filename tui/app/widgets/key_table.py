@@ -73,6 +73,10 @@ class KeyTable(DataTable):
 
     SPECS: ClassVar[tuple[ColumnSpec, ...]] = ()
 
+    steady_columns: ClassVar[bool] = False
+    """Which columns show depends on the width alone, never on the rows' text (so filtering
+    or re-scoring never makes a column come or go)."""
+
     hold_widths = False
     """While true, columns shown keep at least their width (rows being replaced one by one
     would otherwise make the columns jump as the longest text comes and goes)."""
@@ -156,6 +160,8 @@ class KeyTable(DataTable):
         for spec in self.specs():
             longest = self._longest(spec)  # room beyond the longest text is wasted
             narrow = longest if spec.right else min(spec.width, longest)  # numbers never cut
+            if self.steady_columns:
+                narrow = max(narrow, spec.width) if spec.right else spec.width
             widest = max(narrow, min(spec.widest, longest))
             if spec.key in held:  # shown already: keep its width while rows are replaced
                 narrow = max(narrow, held[spec.key])

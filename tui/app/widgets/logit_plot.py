@@ -2,7 +2,9 @@
 whiskers, the linear fit, and the highlighted candidate's curve, on the log-odds scale.
 
 Every mark differs by its character as well as its colour, so the plot reads the same
-without colour: groups ●, whiskers │, linear · · ·, candidate braille line, LOWESS smoother +.
+without colour: groups ●, whiskers │, linear · · ·, candidate braille line, LOWESS smoother +,
+◂ ▸ values beyond the window. The recoded view puts each group at the highlighted form's
+mean fitted linear predictor, with the line y = x (· · ·) it lies along when the form fits.
 """
 
 from __future__ import annotations
@@ -13,21 +15,21 @@ from textual_plotext import PlotextPlot
 
 from tui.app.fit_cache import ColumnFits
 from tui.engine.compare import FormFit
+from tui.engine.plot_window import (
+    Z95,
+    PlotWindow,
+    group_linear_predictor,
+    plot_window,
+    recoded_window,
+)
 
-Z95 = 1.96
-"""Whiskers reach ±1.96 standard errors of each group's empirical logit."""
 GROUP_MARK, WHISKER_MARK, LINEAR_MARK, CURVE_MARK = "●", "│", "·", "braille"
 SMOOTH_MARK = "+"
+BEYOND_LOW, BEYOND_HIGH = "◂", "▸"
+"""On the bottom edge where values lie beyond the window's x range."""
 CURVE_POINTS = 241
 FRAME_ROWS = 3
 """Rows plotext spends outside its canvas: the top and bottom axes and the x labels."""
-CURVE_REACH = 3.0
-"""Curves may widen the y range by up to this many whisker spans each way, ..."""
-MAX_REACH = 3.0
-"""... but by no more than this (log-odds) beyond one whisker span: one extreme curve
-must not squash the groups into a line."""
-MIN_SPAN = 1.0
-"""The narrowest whisker span (log-odds) the reach is measured in."""
 NICE_STEPS = (1.0, 2.0, 2.5, 5.0)
 """Steps per canvas row, times a power of ten: every row lies on a round value."""
 MAX_LABELS = 8
@@ -35,82 +37,121 @@ LABEL_EVERY = (1, 2, 4, 5, 10, 20, 50)
 
 
 class LogitPlot(PlotextPlot):
-    """Draws a ``ColumnFits`` and one highlighted candidate."""
+    """Draws a ``ColumnFits`` and one highlighted candidate, in the window the engine sets
+    from the groups and the smoother (``plot_window``): the highlight never moves it."""
 
     def __init__(self, *, id: str | None = None) -> None:  # noqa: A002 (Textual's name)
         super().__init__(id=id)
         self._fits: ColumnFits | None = None
         self._chosen: FormFit | None = None
+        self.recoded = False
+        """Show the groups against the chosen form's linear predictor instead."""
+        self._window: tuple[int, PlotWindow] | None = None  # per fits object
 
-    def draw(self, fits: ColumnFits | None, chosen: FormFit | None) -> None:
-        """Show these fits with ``chosen`` as the candidate curve (None: groups only)."""
-        self._fits, self._chosen = fits, chosen
+    def draw(self, fits: ColumnFits | None, chosen: FormFit | None, recoded: bool = False) -> None:
+        """Show these fits with ``chosen`` as the candidate curve (None: groups only);
+        ``recoded``: the groups' logits against ``chosen``'s fitted linear predictor."""
+        self._fits, self._chosen, self.recoded = fits, chosen, recoded
         self.refresh()
+
+    def window(self) -> PlotWindow | None:
+        """The window of the fits shown (computed once per fits)."""
+        fits = self._fits
+        if fits is None or not fits.groups:
+            return None
+        if self._window is None or self._window[0] != id(fits):
+            self._window = (id(fits), plot_window(fits.counts, fits.groups, fits.smoother))
+        return self._window[1]
 
     def render(self) -> RenderableType:
         plt = self.plt
         plt.clear_figure()
         fits = self._fits
         if fits is not None and fits.groups:
-            self._draw_fits(fits)
+            if self.recoded:
+                self._draw_recoded(fits)
+            else:
+                self._draw_fits(fits)
         return super().render()
+
+    def _limits(self, window: PlotWindow) -> tuple[float, float]:
+        canvas_rows = max(self.size.height - FRAME_ROWS, 2)
+        bottom, top, ticks, labels = y_axis(window.y_low, window.y_high, canvas_rows)
+        self.plt.xlim(window.x_low, window.x_high)
+        self.plt.ylim(bottom, top)
+        self.plt.yticks(ticks, labels)
+        return bottom, top
+
+    def _draw_groups(self, xs: np.ndarray, fits: ColumnFits) -> None:
+        plt = self.plt
+        logits = np.array([g.logit for g in fits.groups])
+        reach = Z95 * np.array([g.se for g in fits.groups])
+        rows = max(self.size.height, 4)
+        for m, centre, r in zip(xs, logits, reach, strict=True):
+            ys = np.linspace(centre - r, centre + r, 3 * rows)
+            plt.scatter([float(m)] * ys.size, ys.tolist(), marker=WHISKER_MARK, color="default")
+        plt.scatter(xs.tolist(), logits.tolist(), marker=GROUP_MARK, color="default")
 
     def _draw_fits(self, fits: ColumnFits) -> None:
         plt = self.plt
-        medians = np.array([g.median for g in fits.groups])
-        logits = np.array([g.logit for g in fits.groups])
-        reach = Z95 * np.array([g.se for g in fits.groups])
-        low, high = float(fits.counts.x[0]), float(fits.counts.x[-1])
-        if high <= low:
-            low, high = low - 1.0, high + 1.0
-        grid = np.linspace(low, high, CURVE_POINTS)
-        linear = fits.table.linear if fits.table is not None else None
-        curves = [f for f in (linear, self._chosen) if f is not None and f.fit is not None]
-        values = [f.log_odds(grid) for f in curves]
-        bottom, top = _y_limits(logits - reach, logits + reach, values)
-        canvas_rows = max(self.size.height - FRAME_ROWS, 2)
-        bottom, top, ticks, labels = y_axis(bottom, top, canvas_rows)
+        window = self.window()
+        assert window is not None  # fits with groups
+        bottom, top = self._limits(window)
         width = max(self.size.width - 8, 10)  # the canvas, less the y-axis labels
+        grid = window.grid(CURVE_POINTS)
+        linear = fits.table.linear if fits.table is not None else None
         if linear is not None and linear.fit is not None:
-            dots = np.linspace(low, high, max(width // 2, 5))
-            plt.scatter(
-                dots.tolist(), linear.log_odds(dots).tolist(), marker=LINEAR_MARK, color="cyan"
-            )
+            dots = window.grid(max(width // 2, 5))
+            ys = window.clip(linear.log_odds(dots))
+            keep = np.isfinite(ys)
+            plt.scatter(dots[keep].tolist(), ys[keep].tolist(), marker=LINEAR_MARK, color="cyan")
         chosen = self._chosen
         if chosen is not None and chosen.fit is not None and chosen is not linear:
-            plt.plot(
-                grid.tolist(), chosen.log_odds(grid).tolist(), marker=CURVE_MARK, color="orange"
-            )
+            ys = window.clip(chosen.log_odds(grid))
+            for part in _runs(grid, ys):  # a curve leaving the window is cut, not bent
+                plt.plot(part[0].tolist(), part[1].tolist(), marker=CURVE_MARK, color="orange")
         if fits.smoother is not None and fits.smoother[0].size:
             sx, sy = fits.smoother
-            keep = (sy >= bottom) & (sy <= top)
+            keep = (sy >= bottom) & (sy <= top) & (sx >= window.x_low) & (sx <= window.x_high)
             step = max(1, int(sx.size // max(width // 3, 5)))  # sparse, so curves show through
             plt.scatter(
                 sx[keep][::step].tolist(), sy[keep][::step].tolist(), marker=SMOOTH_MARK,
                 color="green",
             )  # fmt: skip
-        rows = max(self.size.height, 4)
-        for m, centre, r in zip(medians, logits, reach, strict=True):
-            ys = np.linspace(centre - r, centre + r, 3 * rows)
-            plt.scatter([float(m)] * ys.size, ys.tolist(), marker=WHISKER_MARK, color="default")
-        plt.scatter(medians.tolist(), logits.tolist(), marker=GROUP_MARK, color="default")
-        plt.xlim(low, high)
-        plt.ylim(bottom, top)
-        plt.yticks(ticks, labels)
+        self._draw_groups(np.array([g.median for g in fits.groups]), fits)
+        for beyond, x, mark in (
+            (window.beyond_low, window.x_low, BEYOND_LOW),
+            (window.beyond_high, window.x_high, BEYOND_HIGH),
+        ):
+            if beyond:  # values lie beyond this edge of the window
+                plt.scatter([x], [bottom], marker=mark, color="default")
+
+    def _draw_recoded(self, fits: ColumnFits) -> None:
+        chosen = self._chosen
+        predictor = None
+        if chosen is not None:
+            predictor = group_linear_predictor(fits.counts, fits.request.groups, chosen)
+        if predictor is None or predictor.size != len(fits.groups):
+            return
+        window = recoded_window(fits.groups, predictor)
+        bottom, top = self._limits(window)
+        line = np.linspace(max(window.x_low, bottom), min(window.x_high, top), CURVE_POINTS)
+        self.plt.plot(line.tolist(), line.tolist(), marker=LINEAR_MARK, color="cyan")
+        self._draw_groups(predictor, fits)
 
 
-def _y_limits(lows: np.ndarray, highs: np.ndarray, curves: list[np.ndarray]) -> tuple[float, float]:
-    """The whiskers' span, widened to take in the curves over the plotted x range, within
-    the reach allowed each way."""
-    bottom, top = float(np.min(lows)), float(np.max(highs))
-    span = max(top - bottom, MIN_SPAN)
-    finite = [c[np.isfinite(c)] for c in curves]
-    values = np.concatenate(finite) if finite else np.zeros(0)
-    reach = max(span, min(CURVE_REACH * span, MAX_REACH))
-    if values.size:
-        bottom = max(min(bottom, float(values.min())), bottom - reach)
-        top = min(max(top, float(values.max())), top + reach)
-    return bottom, top
+def _runs(x: np.ndarray, y: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
+    """The stretches of a curve inside the window (NaN marks where it is outside)."""
+    inside = np.isfinite(y)
+    runs, start = [], None
+    for i, ok in enumerate([*inside, False]):
+        if ok and start is None:
+            start = i
+        elif not ok and start is not None:
+            if i - start >= 2:
+                runs.append((x[start:i], y[start:i]))
+            start = None
+    return runs
 
 
 def y_axis(bottom: float, top: float, rows: int) -> tuple[float, float, list[float], list[str]]:

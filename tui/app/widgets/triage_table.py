@@ -58,6 +58,7 @@ class TriageTable(KeyTable):
     """Scanned columns in the order given; Enter opens the highlighted one."""
 
     BINDINGS = [Binding("enter", "select_cursor", "Open")]
+    steady_columns = True
 
     SPECS = (
         ColumnSpec("name", "column", 22, 32, False, 0),
@@ -71,9 +72,15 @@ class TriageTable(KeyTable):
         ColumnSpec("best", "best form", 16, 26, False, 5),
         ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 6),
         ColumnSpec("flags", "flags", 12, 28, False, 7),
-        ColumnSpec("decision", "decision", 12, 24, False, 8),
+        ColumnSpec("decision", "decision", 12, 24, False, 13),  # the name's mark says it too
         ColumnSpec("adjusted", "adjusted for", 16, 60, False, 9),
     )
+
+    @classmethod
+    def gives_way(cls) -> str:
+        """The order in which fields leave a narrow list, in words (for the help screen)."""
+        order = sorted(cls.SPECS[1:], key=lambda s: -s.priority)
+        return ", ".join(s.header for s in order)
 
     adjusted_shown = False
     """Some score of the session is adjusted: the adjustment fields are shown."""

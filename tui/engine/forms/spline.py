@@ -33,6 +33,9 @@ KNOT_PERCENTILES: dict[int, tuple[float, ...]] = {
     7: (0.025, 0.1833, 0.3417, 0.50, 0.6583, 0.8167, 0.975),
 }
 DEFAULT_KNOTS = 4
+SPLINE_SUFFIX = "spl"
+"""Suffix of the non-linear outputs (``<column>__spl1``, ...). Logs written with other names
+(an older bendwise wrote ``rcs1``, ...) keep them: outputs are stored per recoding."""
 
 
 def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
@@ -90,7 +93,7 @@ class SplineKind(Kind):
         return spline_basis(x, params["knots"])
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
-        return ["lin"] + [f"rcs{j}" for j in range(1, len(params["knots"]) - 1)]
+        return ["lin"] + [f"{SPLINE_SUFFIX}{j}" for j in range(1, len(params["knots"]) - 1)]
 
     def describe(self, params: Mapping[str, Any]) -> str:
         return f"spline, {len(params['knots'])} knots"

@@ -267,7 +267,8 @@ class DecisionBook:
             taken=taken,
         )
         decisions = tuple(changed if d.column == column else d for d in self.log.decisions)
-        self._commit(replace(self.log, decisions=decisions))
+        coded = "left missing" if rule is None else f"missing as {rule.fill:g}"
+        self._commit(replace(self.log, decisions=decisions), f"{column} {coded}")
         return changed
 
     def set_aside(self, column: str, note: str) -> SetAside:

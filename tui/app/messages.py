@@ -6,8 +6,9 @@ from __future__ import annotations
 from textual.message import Message
 
 from tui.app.basis import Basis
-from tui.app.fit_cache import ColumnFits
+from tui.app.fit_cache import ColumnFits, FitRequest
 from tui.engine.scan import ColumnScan
+from tui.engine.stability import SelectionShares
 
 
 class ScanProgress(Message):
@@ -65,3 +66,13 @@ class FitsReady(Message):
     def __init__(self, fits: ColumnFits) -> None:
         super().__init__()
         self.fits = fits
+
+
+class SharesReady(Message):
+    """A column's bootstrap selection shares are in (posted by the column screen's worker)."""
+
+    bubble = False
+
+    def __init__(self, request: FitRequest, shares: SelectionShares | None) -> None:
+        super().__init__()
+        self.request, self.shares = request, shares

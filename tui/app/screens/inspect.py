@@ -19,6 +19,7 @@ from tui.app.screens.column_lines import counts_line, heading_line, score_line, 
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
+from tui.app.screens.share_line import SharesHook, share_line
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
 from tui.app.text import p_text, path_text
@@ -33,6 +34,7 @@ from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
 from tui.engine.forms.spline import KNOT_PERCENTILES, SPLINE
 from tui.engine.groups import GROUP_CHOICES
+from tui.engine.stability import SelectionShares
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
@@ -53,7 +55,7 @@ def next_choice(choices: tuple[int, ...], current: int) -> int:
     return later[0] if later else choices[0]
 
 
-class InspectScreen(Screen[str]):
+class InspectScreen(SharesHook, Screen[str]):
     """One column under inspection; dismisses with the column last shown."""
 
     CSS_PATH = "inspect.tcss"
@@ -80,6 +82,7 @@ class InspectScreen(Screen[str]):
         self.groups = session.settings.groups
         self.knots = session.settings.knots
         self.fits: ColumnFits | None = None
+        self.shares: SelectionShares | None = None
         self._want_key: str | None = None
 
     def compose(self) -> ComposeResult:
@@ -90,6 +93,7 @@ class InspectScreen(Screen[str]):
         yield LogitPlot(id="plot")
         yield Line("", id="legend")
         yield FormsTable(id="forms")
+        yield Line("", id="shares")
         yield Line("", id="notes")
         yield Line("", id="caution")
         yield Line("", id="note")
@@ -153,6 +157,7 @@ class InspectScreen(Screen[str]):
         fits = self.cache.fits(request)
         if not get_current_worker().is_cancelled:
             self.post_message(FitsReady(fits))
+        self.compute_shares(request)
 
     @on(FitsReady)
     def _arrived(self, message: FitsReady) -> None:
@@ -168,8 +173,12 @@ class InspectScreen(Screen[str]):
 
     def _show_fits(self, fits: ColumnFits) -> None:
         self.fits = fits
+        done, self.shares = self.cache.cached_shares(fits.request)
+        self.query_one("#shares", Line).update(share_line(fits, self.shares, pending=not done))
+        if not done and not self.fit_worker_running():
+            self.shares_worker(fits.request)
         table = self.query_one(FormsTable)
-        table.show(fits, self._accepted())
+        table.show(fits, self._accepted(), self.shares)
         if self._want_key is not None:
             table.move_to_key(self._want_key)
             self._want_key = None
@@ -274,7 +283,10 @@ class InspectScreen(Screen[str]):
         basis = fits.request.basis  # the design the row was fitted with
         column, groups, knots = self.column, self.groups, self.knots
         note = self.note()
-        self._decide(lambda: self.session.accept(column, row, groups, knots, hand, basis, note))
+        shares = self.shares
+        self._decide(
+            lambda: self.session.accept(column, row, groups, knots, hand, basis, note, shares)
+        )
 
     def action_keep_linear(self) -> None:
         """Keep this column as a plain linear term."""
@@ -286,7 +298,10 @@ class InspectScreen(Screen[str]):
         basis = fits.request.basis
         column, groups, knots = self.column, self.groups, self.knots
         note = self.note()
-        self._decide(lambda: self.session.accept(column, linear, groups, knots, False, basis, note))
+        shares = self.shares
+        self._decide(
+            lambda: self.session.accept(column, linear, groups, knots, False, basis, note, shares)
+        )
 
     def _decide(self, record: Callable[[], Decision]) -> None:
         try:
@@ -335,7 +350,7 @@ class InspectScreen(Screen[str]):
 
     def _after_change(self) -> None:
         if self.fits is not None:
-            self.query_one(FormsTable).show(self.fits, self._accepted())
+            self.query_one(FormsTable).show(self.fits, self._accepted(), self.shares)
         self._refresh_heading()
 
     # --- settings and hand-entered forms ------------------------------------------------

@@ -9,6 +9,8 @@ from tui.app.text import is_number, number_text, p_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
+from tui.engine.stability import SelectionShares, percent
+from tui.table_rules import names_best
 
 BY_HAND = "entered by hand"
 ACCEPTED_MARK = "✓"
@@ -17,9 +19,11 @@ BEST_WORD = "best"
 
 
 def lowest_aic(rows: Sequence[FormFit]) -> str | None:
-    """The key of the first row with the lowest AIC (None when no AIC is a number)."""
+    """The key of the first row with the lowest AIC, when it beats linear by the margin
+    of ``table_rules.BEST_MARGIN`` (None otherwise: linear is adequate)."""
     scored = [r for r in rows if is_number(r.aic)]
-    return min(scored, key=lambda r: r.aic).key if scored else None
+    best = min(scored, key=lambda r: r.aic) if scored else None
+    return best.key if best is not None and names_best(best.delta_aic) else None
 
 
 def row_notes(row: FormFit, by_hand: bool) -> list[str]:
@@ -37,8 +41,15 @@ def form_text(row: FormFit) -> str:
     return row.recoding.describe() if row.recoding is not None else row.label
 
 
-def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool, best: bool = False) -> Row:
-    """A table row for one candidate, keyed by its form key; ``best``: lowest AIC."""
+def form_row(
+    row: FormFit,
+    accepted: Recoding | None,
+    by_hand: bool,
+    best: bool = False,
+    shares: SelectionShares | None = None,
+) -> Row:
+    """A table row for one candidate, keyed by its form key; ``best``: lowest AIC by the
+    margin; ``shares``: the bootstrap selection shares (a dash until they are in)."""
     mark = ACCEPTED_MARK if accepted is not None and row.recoding == accepted else " "
     return row.key, {
         "form": f"{mark} {form_text(row)}",
@@ -48,6 +59,7 @@ def form_row(row: FormFit, accepted: Recoding | None, by_hand: bool, best: bool 
         "best": BEST_WORD if best else "",
         "delta_aic": number_text(row.delta_aic),
         "lr_p": p_text(row.lr_p),
+        "share": percent(shares.share(row.key)) if shares is not None else "-",
         "notes": "; ".join(row_notes(row, by_hand)) or "-",
     }
 
@@ -63,12 +75,20 @@ class FormsTable(KeyTable):
         ColumnSpec("best", "", 4, 4, False, 3),
         ColumnSpec("delta_aic", "ΔAIC", 6, 7, True, 4),
         ColumnSpec("lr_p", "LR p", 7, 7, True, 5),
+        ColumnSpec("share", "share", 5, 5, True, 5),
         ColumnSpec("notes", "notes", 10, 90, False, 6),
     )
 
-    def show(self, fits: ColumnFits, accepted: Recoding | None) -> None:
+    def show(
+        self,
+        fits: ColumnFits,
+        accepted: Recoding | None,
+        shares: SelectionShares | None = None,
+    ) -> None:
         """Show the candidates of ``fits``, marking the accepted one."""
         hand = fits.request.hand_labels()
         rows = fits.table.rows if fits.table is not None else ()
         best = lowest_aic(rows)
-        self.show_rows([form_row(r, accepted, r.label in hand, r.key == best) for r in rows])
+        self.show_rows(
+            [form_row(r, accepted, r.label in hand, r.key == best, shares) for r in rows]
+        )

@@ -298,6 +298,12 @@ class Candidate(ABC):
     def label(self) -> str:
         """Readable name with options, e.g. ``spline, 4 knots``."""
 
+    def search_options(self, counts: ReducedCounts) -> list[Recoding] | None:
+        """The recodings a search of this candidate chooses among on ``counts`` (by
+        likelihood, as ``search`` does); None for a candidate that searches nothing.
+        Resampling re-runs the search over these (``engine/stability.py``)."""
+        return None
+
     @abstractmethod
     def learn(self, counts: ReducedCounts) -> Learned:
         """Learn the numbers from training counts. Raises RecodingError when impossible."""

@@ -75,10 +75,15 @@ class IndicatorCandidate(Candidate):
     def label(self) -> str:
         return INDICATOR.label if self.cut is None else f"indicator x < {self.cut:.6g}"
 
+    def search_options(self, counts: ReducedCounts) -> list[Recoding] | None:
+        if self.cut is not None:
+            return None
+        return [Recoding(INDICATOR, {"cut": c}) for c in cut_candidates(counts)]
+
     def learn(self, counts: ReducedCounts) -> Learned:
         if self.cut is not None:
             return Learned(Recoding(INDICATOR, {"cut": float(self.cut)}))
-        options = [Recoding(INDICATOR, {"cut": c}) for c in cut_candidates(counts)]
+        options = self.search_options(counts) or []
         if not options:
             raise RecodingError("too few distinct values to place a cut point")
         return Learned(search(options, counts), searched=True)

@@ -25,3 +25,18 @@ ADEQUATE = "linear adequate"
 def names_best(delta_aic: float | None) -> bool:
     """Whether a row with this ΔAIC (against linear) may be named the best form."""
     return delta_aic is not None and delta_aic == delta_aic and delta_aic <= -BEST_MARGIN
+
+
+def best_words(best_form: str | None, delta_aic: float | None) -> str:
+    """The lowest-AIC form as a table names it: the form when it beats linear by
+    ``BEST_MARGIN``, ``linear adequate`` otherwise, a dash when nothing was fitted."""
+    if best_form is None:
+        return "-"
+    return best_form if names_best(delta_aic) else ADEQUATE
+
+
+BEST_RULE = (
+    f"best: the lowest-AIC form, named only when it beats linear by {BEST_MARGIN:g} AIC or "
+    "more (a rule of thumb, Burnham & Anderson 2002); otherwise linear adequate"
+)
+"""The naming rule in words, under the tables that name a best form."""

@@ -6,7 +6,7 @@ from tui.cautions import SHORT_CAUTION
 from tui.engine.forms_listing import FormsListing
 from tui.engine.stability import METHOD, percent
 from tui.numbers_text import number_text, p_text
-from tui.table_rules import ADEQUATE, DF_RULE, LR_DASH, names_best
+from tui.table_rules import ADEQUATE, BEST_RULE, DF_RULE, LR_DASH, names_best
 
 
 def as_table(column: str, listing: FormsListing) -> str:
@@ -41,10 +41,10 @@ def as_table(column: str, listing: FormsListing) -> str:
     if best is not None and best.key != "linear" and names_best(best.delta_aic):
         out.append(f"best: {listing.labels()[best.key]} (ΔAIC {number_text(best.delta_aic)})")
     else:
-        out.append(f"best: {ADEQUATE} (no form beats it by 2 AIC or more)")
+        out.append(f"best: {ADEQUATE}")
     if shares is not None:
         out.append(
             f"bootstrap shares ({METHOD}): {shares.leaders(listing.labels())}, seed {shares.seed}"
         )
-    out += [LR_DASH, DF_RULE, SHORT_CAUTION]
+    out += [BEST_RULE, LR_DASH, DF_RULE, SHORT_CAUTION]
     return "\n".join(out) + "\n"

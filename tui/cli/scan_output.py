@@ -11,6 +11,7 @@ from tui.cautions import SHORT_CAUTION
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.scan import ColumnScan
 from tui.numbers_text import number_text, p_text
+from tui.table_rules import BEST_RULE, best_words
 
 FIELDS = (
     "column",
@@ -66,7 +67,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
                 p_text(s.p_value),
                 p_text(s.q_value),
                 s.shape or "-",
-                s.best_form or "-",
+                best_words(s.best_form, s.delta_aic),
                 number_text(s.delta_aic),
                 ",".join(s.flags) or "-",
             )
@@ -88,6 +89,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "") -> str:
         f"{numeric} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
         "of a restricted cubic spline against linear; q = Benjamini-Hochberg."
     )
+    lines.append(BEST_RULE + ".")
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     lines.append(f"Caution: {SHORT_CAUTION}")

@@ -22,9 +22,9 @@ from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.share_line import SharesHook, share_line
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
-from tui.app.text import p_text, path_text
+from tui.app.text import path_text
 from tui.app.view_state import ReviewView
-from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
+from tui.app.widgets.forms_table import FormsTable, form_text, power_words, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
 from tui.cautions import CAUTIONS
@@ -249,7 +249,7 @@ class InspectScreen(SharesHook, Screen[str]):
         words = row_notes(row, row.label in fits.request.hand_labels())
         bt = fits.table.box_tidwell if fits.table is not None else None
         if row.kind == "linear" and bt is not None:
-            words.append(f"Box–Tidwell power {bt.power:.2f}, p {p_text(bt.p_value)}")
+            words.append(power_words(bt))
         notes.update(f"form notes ({form_text(row)}): " + ("; ".join(words) or "none"))
         if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")

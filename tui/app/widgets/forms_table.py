@@ -7,12 +7,14 @@ from collections.abc import Sequence
 from tui.app.fit_cache import ColumnFits
 from tui.app.text import is_number, number_text, p_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
-from tui.engine.compare import FormFit
+from tui.engine.compare import BoxTidwell, FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.stability import SelectionShares, percent
 from tui.table_rules import names_best
 
-BY_HAND = "entered by hand"
+BY_HAND = "entered by hand (no df for a search)"
+SEARCH_DF = "df includes {n} for the search"
+"""Beside a searched row: the df rule (``tui.table_rules.DF_RULE``) on screen."""
 ACCEPTED_MARK = "✓"
 BEST_WORD = "best"
 """Beside the AIC of the row with the lowest AIC (a word, not a colour)."""
@@ -26,9 +28,22 @@ def lowest_aic(rows: Sequence[FormFit]) -> str | None:
     return best.key if best is not None and names_best(best.delta_aic) else None
 
 
+def power_words(bt: BoxTidwell) -> str:
+    """The Box–Tidwell power with its 95% interval, flagged when it is not meaningful."""
+    text = f"Box–Tidwell power {number_text(bt.power, 2)}"
+    text += (
+        f" (95% CI {number_text(bt.low, 2)} to {number_text(bt.high, 2)}), p {p_text(bt.p_value)}"
+    )
+    why = bt.why_not()
+    return text if why is None else f"{text}: not meaningful ({why})"
+
+
 def row_notes(row: FormFit, by_hand: bool) -> list[str]:
     """The engine's notes on a row, after its fit status when that is not ``ok``."""
     notes = list(row.notes)
+    searched = row.df - len(row.recoding.suffixes()) if row.recoding is not None else 0
+    if searched > 0:
+        notes.append(SEARCH_DF.format(n=searched))
     if row.status != "ok":
         notes.insert(0, row.status if row.status != "failed" else "could not be fitted")
     if by_hand:

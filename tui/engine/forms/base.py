@@ -249,6 +249,8 @@ class Learned:
     """The learned recoding."""
     searched: bool = False
     """A cut point or power was chosen from the data (p-values optimistic)."""
+    remarks: tuple[str, ...] = ()
+    """What learning had to change from what was asked (e.g. fewer knots than asked)."""
 
     @property
     def df(self) -> int:
@@ -266,8 +268,8 @@ class Learned:
 
     @property
     def notes(self) -> list[str]:
-        """The kind's cautions on this row."""
-        return self.recoding.form.notes(self.searched)
+        """The kind's cautions on this row, after what learning had to change."""
+        return [*self.remarks, *self.recoding.form.notes(self.searched)]
 
 
 class Candidate(ABC):

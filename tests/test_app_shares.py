@@ -58,3 +58,26 @@ def test_shares_show_beside_the_table_and_go_into_the_evidence(folder: Path) -> 
     assert dict(decision.evidence.selection.shares) == pytest.approx(expected.shares)
     assert decision.deciles is not None and len(decision.deciles) == 9
     assert list(decision.deciles) == sorted(decision.deciles)
+
+
+def test_v_turns_the_indicator_side_and_the_log_records_it(folder: Path) -> None:
+    session = open_session(folder / "fleet.csv", OUTCOME, log_path=LOG)
+
+    async def go() -> None:
+        app = ReviewApp(session, quick_scanner)
+        async with app.run_test(size=(120, 40)) as pilot:
+            await settle(pilot)
+            screen = await open_column(pilot, "route_km")
+            await pilot.press("v")
+            await settle(pilot)
+            row = screen.fits.table.row("indicator")
+            assert row.recoding.params["side"] == "above"
+            assert "≥" in screen.query_one(FormsTable).get_row("indicator")[0].plain
+            await highlight_form(pilot, "indicator")
+            await pilot.press("a")
+            await pilot.pause()
+
+    asyncio.run(go())
+    decision = recodings.load_log(folder / LOG).decision_for("route_km")
+    assert decision.recoding.params["side"] == "above"
+    assert decision.outputs == ("route_km__above",)

@@ -131,3 +131,55 @@ def test_bands_have_their_own_note():
     bands = table.row("bands")
     assert NOTE_BANDS in bands.notes and NOTE_DICHOTOMY not in bands.notes
     assert NOTE_DICHOTOMY in table.row("indicator").notes
+
+
+def test_the_indicator_side_is_the_analysts_and_replay_and_sql_follow(tmp_path):
+    # Worked by hand: cut 2, side above gives 1 for x >= 2; an older log (no side) is below.
+    import duckdb
+    import pandas as pd
+
+    from tui import recodings
+    from tui.engine.forms import make_recoding
+
+    above = make_recoding("indicator", {"cut": 2.0, "side": "above"})
+    below = make_recoding("indicator", {"cut": 2.0})
+    x = np.array([1.0, 2.0, 3.0])
+    assert above.apply(x)[:, 0].tolist() == [0.0, 1.0, 1.0]
+    assert below.apply(x)[:, 0].tolist() == [1.0, 0.0, 0.0]
+    assert above.describe() == "indicator x ≥ 2" and above.suffixes() == ["above"]
+    log = RecodingLog(
+        "y", 1, SourceInfo("t.csv", 3, "0" * 64),
+        (Decision.make("x", above, (1.0, 3.0)), Decision.make("z", below, (1.0, 3.0))),
+    )  # fmt: skip
+    path = tmp_path / "log.json"
+    recodings.save(log, path)
+    again = recodings.load(path)
+    assert again.decisions[0].recoding.params == {"cut": 2.0, "side": "above"}
+    assert again.decisions[1].recoding.params == {"cut": 2.0}  # older logs: below
+    frame = pd.DataFrame({"x": x, "z": x})
+    replayed = recodings.apply_to_frame(again, frame)
+    assert replayed["x__above"].tolist() == [0.0, 1.0, 1.0]
+    sql = recodings.to_sql(again, "duckdb", table="t")
+    con = duckdb.connect()
+    con.register("t", frame)
+    out = con.execute(sql).df()
+    assert out["x__above"].tolist() == [0.0, 1.0, 1.0] and out["z__below"].tolist() == [
+        1.0,
+        0.0,
+        0.0,
+    ]
+    bad = path.read_text().replace('"side": "above"', '"side": "left"')
+    with pytest.raises(recodings.LogProblem, match="side"):
+        recodings.loads(bad, "l.json")
+
+
+def test_both_sides_fit_alike_with_the_sign_turned():
+    _, counts, _ = _table("hba1c_pct")
+    below = fit_column(counts, CandidateSet(4, 4), smooth=False).table.row("indicator")
+    above = fit_column(counts, CandidateSet(4, 4, side="above"), smooth=False).table.row(
+        "indicator"
+    )
+    assert above.recoding.params["side"] == "above"
+    assert above.recoding.params["cut"] == below.recoding.params["cut"]
+    assert above.deviance == pytest.approx(below.deviance, abs=1e-8)
+    assert above.form_coef[0] == pytest.approx(-below.form_coef[0], rel=1e-6)

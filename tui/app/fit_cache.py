@@ -17,6 +17,7 @@ from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
 from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
+from tui.engine.forms.indicator import BELOW
 from tui.engine.scan import ScanSettings, reduce_for_scan
 from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, SelectionShares, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset
@@ -42,11 +43,13 @@ class FitRequest:
     """Hinge knots entered by hand."""
     basis: Basis = field(default_factory=Basis)
     """Covariates and weights in every fit (those of the column's score)."""
+    side: str = BELOW
+    """Which side of its cut point an indicator reads 1."""
 
     @property
     def wanted(self) -> CandidateSet:
         """The engine's candidate set of this request."""
-        return CandidateSet(self.groups, self.knots, self.cuts, self.hinges)
+        return CandidateSet(self.groups, self.knots, self.cuts, self.hinges, self.side)
 
     def hand_labels(self) -> set[str]:
         """Labels of the candidates entered by hand."""

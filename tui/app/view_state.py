@@ -19,6 +19,8 @@ class ReviewView:
     """Hinge knots typed for each column."""
     drafts: dict[str, str] = field(default_factory=dict)
     """Notes typed for columns not yet decided."""
+    above: set[str] = field(default_factory=set)
+    """Columns whose indicators read 1 from the cut point upwards (else below it)."""
 
     def neighbour(self, column: str, step: int) -> str | None:
         """The column ``step`` places away in the list's order (None past either end)."""
@@ -34,6 +36,14 @@ class ReviewView:
     def add_cut(self, column: str, value: float) -> None:
         """One more indicator cut point typed for ``column``."""
         self.hand_cuts[column] = self.hand_cuts.get(column, ()) + (value,)
+
+    def side(self, column: str) -> str:
+        """Which side of its cut an indicator of ``column`` reads 1."""
+        return "above" if column in self.above else "below"
+
+    def flip_side(self, column: str) -> None:
+        """Indicators of ``column`` read 1 on the other side of the cut from now on."""
+        self.above ^= {column}
 
     def add_hinge(self, column: str, value: float) -> None:
         """One more hinge knot typed for ``column``."""

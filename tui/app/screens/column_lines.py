@@ -53,5 +53,5 @@ def counts_line(profile: ColumnProfile, scan: ColumnScan | None) -> str:
 def settings_line(groups: int, knots: int) -> str:
     """The setting keys and their values now (the footer has no room for them)."""
     return (
-        f"g {groups} groups · s {knots} knots · c typed cut point · h typed hinge knot · ! cautions"
+        f"g {groups} groups · s {knots} knots · c typed cut · h typed hinge · v side · ! cautions"
     )

@@ -44,6 +44,11 @@ GROUPS_TIP = "Next number of quantile groups (4, 5, 10, 20)"
 KNOTS_TIP = "Next number of spline knots (3 to 7)"
 CUT_TIP = "Type a cut point for an indicator"
 HINGE_TIP = "Type the knot of a hinge"
+SIDE_TIP = "Indicators read 1 on the other side of the cut point"
+SIDE_WORDS = {
+    "below": "The indicator is 1 below the cut point and 0 from it upwards (v: the other side).",
+    "above": "The indicator is 1 from the cut point upwards and 0 below it (v: the other side).",
+}
 SHORT_BELOW = 32
 """Screens with fewer rows show fewer candidate rows at once (the table scrolls)."""
 
@@ -72,6 +77,7 @@ class InspectScreen(SharesHook, Screen[str]):
         Binding("s", "cycle_knots", "Knots", tooltip=KNOTS_TIP, show=False),
         Binding("c", "enter_cut", "Cut", tooltip=CUT_TIP, show=False),
         Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
+        Binding("v", "flip_side", "Side", tooltip=SIDE_TIP, show=False),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
     ]
 
@@ -115,6 +121,7 @@ class InspectScreen(SharesHook, Screen[str]):
             self.view.hand_cuts.get(self.column, ()),
             self.view.hand_hinges.get(self.column, ()),
             self.session.basis_of(self.column),
+            self.view.side(self.column),
         )
 
     @on(ScoresChanged)
@@ -361,6 +368,13 @@ class InspectScreen(SharesHook, Screen[str]):
         self._refresh_heading()
         self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
+    def action_flip_side(self) -> None:
+        """Indicators read 1 on the other side of their cut point (the fit is the same;
+        the coefficient changes sign, and the log records the side)."""
+        self.view.flip_side(self.column)
+        tell(self, f"indicators now read 1 {self.view.side(self.column)} the cut", timeout=3)
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
+
     def action_cycle_knots(self) -> None:
         """Next number of spline knots (3 to 7)."""
         self.knots = next_choice(KNOT_CHOICES, self.knots)
@@ -383,7 +397,7 @@ class InspectScreen(SharesHook, Screen[str]):
             return
         prompt = ValuePrompt(
             f"Cut point for {self.column}",
-            "The indicator is 1 below the cut point and 0 from it upwards.",
+            SIDE_WORDS[self.view.side(self.column)],
             *span,
         )
         self.app.push_screen(prompt, self._cut_entered)
@@ -404,7 +418,7 @@ class InspectScreen(SharesHook, Screen[str]):
     def _cut_entered(self, value: float | None) -> None:
         if value is None:
             return
-        cut = IndicatorCandidate(cut=value)
+        cut = IndicatorCandidate(cut=value, side=self.view.side(self.column))
         known = {c.label: c.key for c in self.request().wanted.by_hand()}
         if cut.label not in known:  # 12.5 and 12.5000001 read the same
             self.view.add_cut(self.column, value)

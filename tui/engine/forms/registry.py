@@ -9,7 +9,7 @@ from tui.engine.forms.bands import BANDS, BandsCandidate
 from tui.engine.forms.base import Candidate, Kind, Recoding, RecodingError
 from tui.engine.forms.fracpoly import FP1, FP2, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.hinge import HINGE, HingeCandidate
-from tui.engine.forms.indicator import INDICATOR, IndicatorCandidate
+from tui.engine.forms.indicator import BELOW, INDICATOR, IndicatorCandidate
 from tui.engine.forms.linear import LINEAR, LinearCandidate
 from tui.engine.forms.log import LOG, LogCandidate
 from tui.engine.forms.quadratic import QUADRATIC, QuadraticCandidate
@@ -29,8 +29,11 @@ def make_recoding(
     return Recoding(KINDS[key], dict(params or {}), clip)
 
 
-def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Candidate]:
-    """The candidate forms compared for every column, linear first."""
+def default_candidates(
+    groups: int = 4, knots: int = DEFAULT_KNOTS, side: str = BELOW
+) -> list[Candidate]:
+    """The candidate forms compared for every column, linear first; ``side``: which side
+    of its cut the indicator reads 1."""
     return [
         LinearCandidate(),
         LogCandidate(),
@@ -39,7 +42,7 @@ def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Cand
         QuadraticCandidate(),
         SplineCandidate(knots),
         HingeCandidate(),
-        IndicatorCandidate(),
+        IndicatorCandidate(side=side),
         BandsCandidate(groups),
     ]
 

@@ -11,7 +11,10 @@ from tui.app.messages import SharesReady
 from tui.app.widgets.forms_table import FormsTable, form_text
 from tui.app.widgets.line import Line
 from tui.engine.stability import DEFAULT_RESAMPLES, SelectionShares
+from tui.intake.weights import SURVEY
 from tui.table_rules import LR_DASH
+
+SURVEY_LR = "LR p approximate: survey weights, sampling design ignored"
 
 
 def share_line(fits: ColumnFits, shares: SelectionShares | None, pending: bool = False) -> str:
@@ -25,6 +28,8 @@ def share_line(fits: ColumnFits, shares: SelectionShares | None, pending: bool =
         rows = fits.table.rows if fits.table is not None else ()
         text = "shares: " + shares.leaders({r.key: form_text(r) for r in rows})
         text += f" (seed {shares.seed})"
+    if fits.request.basis.weight_kind == SURVEY:
+        text += f" · {SURVEY_LR}"
     return f"{text} · {LR_DASH}"
 
 

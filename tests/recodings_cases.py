@@ -49,10 +49,10 @@ EVERY_KIND: list[tuple[str, Recoding, tuple[float, float]]] = [
         (20.0, 380.0),
     ),
     ("hba1c_pct", make_recoding("indicator", {"cut": 6.5}), (4.2, 13.5)),
-    # The side the analyst picked: 1 from the cut upwards (a smoker).
-    ("smoking_pack_years", make_recoding("indicator", {"cut": 0.5, "side": "above"}), (0.0, 150.0)),
     ("incision_length_cm", make_recoding("bands", {"edges": [5.0, 9.5, 15.0]}), (2.0, 40.0)),
     ("haemoglobin_g_l", make_recoding("linear", {}, clip=(90.0, 170.0)), (70.0, 185.0)),
+    # The side the analyst picked: 1 from the cut upwards (a smoker).
+    ("smoking_pack_years", make_recoding("indicator", {"cut": 0.5, "side": "above"}), (0.0, 150.0)),
 ]
 
 

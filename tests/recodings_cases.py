@@ -65,6 +65,8 @@ EVERY_KIND: list[tuple[str, Recoding, tuple[float, float]]] = [
         make_recoding("log", {"shift": 1.0}, missing=MissingFill(365.0, True)),
         (1.0, 730.0),
     ),
+    # The side the analyst picked: 1 from the cut upwards (a smoker).
+    ("smoking_pack_years", make_recoding("indicator", {"cut": 0.5, "side": "above"}), (0.0, 150.0)),
 ]
 
 

@@ -12,6 +12,7 @@ from scipy import stats
 from tui.engine.compare import NOTE_FEW_EVENTS, compare_forms
 from tui.engine.counts import reduce_column
 from tui.engine.forms import KINDS, RecodingError, default_candidates, make_recoding
+from tui.engine.forms.bands import NOTE_BANDS
 from tui.engine.forms.base import NOTE_CUT, NOTE_DICHOTOMY, NOTE_POWER
 from tui.engine.forms.cutpoints import SEARCH_PERCENTILES, cut_candidates
 from tui.engine.forms.hinge import HingeCandidate
@@ -75,7 +76,9 @@ def test_notes_come_from_the_kind():
     assert KINDS["indicator"].notes(searched=False) == [NOTE_DICHOTOMY]
     assert KINDS["hinge"].notes(searched=True) == [NOTE_CUT]
     assert KINDS["fp2"].notes(searched=True) == [NOTE_POWER]
-    assert KINDS["bands"].notes(searched=False) == [NOTE_DICHOTOMY]  # unchanged wording
+    # Bands are several groups, not a dichotomy: their own note.
+    assert KINDS["bands"].notes(searched=False) == [NOTE_BANDS]
+    assert NOTE_DICHOTOMY not in KINDS["bands"].notes(searched=True)
     assert KINDS["spline"].notes(searched=False) == []
 
 

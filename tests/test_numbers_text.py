@@ -18,7 +18,7 @@ def test_no_number_is_a_dash(missing):
 
 def test_fixed_decimals():
     assert number_text(12.345) == "12.3"  # the table and screen default: one decimal
-    assert number_text(-0.04) == "-0.0"
+    assert number_text(-0.04) == "0.0"  # never -0.0
     assert number_text(2.0, 3) == "2.000"
     assert fmt(12.345) == "12.35" and fmt(0.12345, 3) == "0.123"  # the report: two
 
@@ -43,3 +43,9 @@ def test_the_screens_use_the_same_functions():
     assert app_text.p_text is p_text
     assert app_text.value_text is value_text
     assert app_text.is_number is is_number
+
+
+def test_a_value_that_rounds_to_zero_has_no_sign():
+    assert number_text(-0.04) == "0.0" and number_text(-0.0) == "0.0"
+    assert number_text(-0.05, 1) == "-0.1" and number_text(-0.004, 2) == "0.00"
+    assert number_text(-12.0) == "-12.0"

@@ -20,8 +20,12 @@ def is_number(value: float | None) -> bool:
 
 
 def number_text(value: float | None, digits: int = 1, dash: str = HYPHEN) -> str:
-    """Fixed decimals, or a dash when there is no number."""
-    return f"{value:.{digits}f}" if is_number(value) else dash
+    """Fixed decimals, or a dash when there is no number; never ``-0.0`` (a value that
+    rounds to zero has no sign)."""
+    if not is_number(value):
+        return dash
+    text = f"{value:.{digits}f}"
+    return text[1:] if text.startswith("-") and not text.strip("-0.") else text
 
 
 def p_text(value: float | None, dash: str = HYPHEN) -> str:

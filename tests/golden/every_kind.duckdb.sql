@@ -57,5 +57,7 @@ SELECT
   CAST(CASE WHEN CAST("potassium_mmol_l" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN 0.0 ELSE 1.0 END AS DOUBLE) AS "potassium_mmol_l__missing",
   -- days_since_prior_admission: log, shift 1, missing as 365 + indicator
   CAST(CASE WHEN (((CASE WHEN CAST("days_since_prior_admission" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST("days_since_prior_admission" AS DOUBLE) ELSE 365.0 END)) + 1.0) > 0 THEN LN((((CASE WHEN CAST("days_since_prior_admission" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CAST("days_since_prior_admission" AS DOUBLE) ELSE 365.0 END)) + 1.0)) END AS DOUBLE) AS "days_since_prior_admission__log",
-  CAST(CASE WHEN CAST("days_since_prior_admission" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN 0.0 ELSE 1.0 END AS DOUBLE) AS "days_since_prior_admission__missing"
+  CAST(CASE WHEN CAST("days_since_prior_admission" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN 0.0 ELSE 1.0 END AS DOUBLE) AS "days_since_prior_admission__missing",
+  -- smoking_pack_years: indicator x ≥ 0.5
+  CAST(CASE WHEN CAST("smoking_pack_years" AS DOUBLE) NOT IN (CAST('NaN' AS DOUBLE), CAST('Infinity' AS DOUBLE), CAST('-Infinity' AS DOUBLE)) THEN CASE WHEN CAST("smoking_pack_years" AS DOUBLE) IS NULL THEN NULL ELSE CASE WHEN CAST("smoking_pack_years" AS DOUBLE) >= 0.5 THEN 1.0 ELSE 0.0 END END END AS DOUBLE) AS "smoking_pack_years__above"
 FROM "surgical_cohort"

@@ -17,7 +17,9 @@ from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
 from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
+from tui.engine.forms.indicator import BELOW
 from tui.engine.scan import ScanSettings, reduce_for_scan
+from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, SelectionShares, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset
 
 ROW_LEVEL_KEPT = 6
@@ -41,11 +43,13 @@ class FitRequest:
     """Hinge knots entered by hand."""
     basis: Basis = field(default_factory=Basis)
     """Covariates and weights in every fit (those of the column's score)."""
+    side: str = BELOW
+    """Which side of its cut point an indicator reads 1."""
 
     @property
     def wanted(self) -> CandidateSet:
         """The engine's candidate set of this request."""
-        return CandidateSet(self.groups, self.knots, self.cuts, self.hinges)
+        return CandidateSet(self.groups, self.knots, self.cuts, self.hinges, self.side)
 
     def hand_labels(self) -> set[str]:
         """Labels of the candidates entered by hand."""
@@ -78,6 +82,7 @@ class FitCache:
         # Row-level entries, least recently used first: their counts hold every row.
         self._row_counts: OrderedDict[tuple[str, Basis], ReducedCounts] = OrderedDict()
         self._row_fits: OrderedDict[FitRequest, ColumnFits] = OrderedDict()
+        self._shares: dict[FitRequest, SelectionShares | None] = {}
 
     def cached(self, request: FitRequest) -> ColumnFits | None:
         """The fits if already computed."""
@@ -123,6 +128,28 @@ class FitCache:
                 self._fits[request] = result
             else:
                 _keep_recent(self._row_fits, request, result)
+        return result
+
+    def cached_shares(self, request: FitRequest) -> tuple[bool, SelectionShares | None]:
+        """(computed already, the shares) of a request."""
+        with self._lock:
+            return request in self._shares, self._shares.get(request)
+
+    def shares(self, request: FitRequest) -> SelectionShares | None:
+        """Bootstrap selection shares of a request's candidates (``DEFAULT_RESAMPLES``
+        resamples, ``DEFAULT_SEED``); None for adjusted fits. Slow: call from a worker."""
+        done, found = self.cached_shares(request)
+        if done:
+            return found
+        fits = self.fits(request)
+        result = None
+        if fits.table is not None and fits.problem is None:
+            candidates = request.wanted.candidates()
+            result = selection_shares(
+                fits.counts, fits.table, candidates, DEFAULT_RESAMPLES, DEFAULT_SEED
+            )
+        with self._lock:
+            self._shares[request] = result
         return result
 
 

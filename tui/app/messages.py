@@ -6,8 +6,9 @@ from __future__ import annotations
 from textual.message import Message
 
 from tui.app.basis import Basis
-from tui.app.fit_cache import ColumnFits
+from tui.app.fit_cache import ColumnFits, FitRequest
 from tui.engine.scan import ColumnScan
+from tui.engine.stability import SelectionShares
 
 
 class ScanProgress(Message):
@@ -72,3 +73,13 @@ class LogChanged(Message):
     redraws what it shows of the log."""
 
     bubble = False
+
+
+class SharesReady(Message):
+    """A column's bootstrap selection shares are in (posted by the column screen's worker)."""
+
+    bubble = False
+
+    def __init__(self, request: FitRequest, shares: SelectionShares | None) -> None:
+        super().__init__()
+        self.request, self.shares = request, shares

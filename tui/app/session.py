@@ -13,6 +13,7 @@ from tui.app.basis import Adjustments, Basis
 from tui.app.view_state import ReviewView
 from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit
+from tui.engine.drift import training_deciles
 from tui.engine.forms.base import MissingFill
 from tui.engine.missing_group import (
     FillComparison,
@@ -22,6 +23,7 @@ from tui.engine.missing_group import (
     training_median,
 )
 from tui.engine.scan import ColumnScan, ScanSettings
+from tui.engine.stability import SelectionShares
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
 from tui.intake.profile import ColumnProfile
 from tui.intake.weights import FREQUENCY
@@ -39,6 +41,7 @@ from tui.recodings.decisions import (
     default_log_path,
     judged_evidence,
     open_log,
+    with_selection,
 )
 from tui.recodings.evidence import DataFingerprint, Evidence
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
@@ -239,10 +242,12 @@ class ReviewSession:
         by_hand: bool = False,
         basis: Basis | None = None,
         note: str | None = None,
+        shares: SelectionShares | None = None,
     ) -> Decision:
         """Record the form in ``row`` for ``column`` and save the log. ``basis`` is what the
         row was fitted with (default: the basis of the column's score); ``note`` defaults
-        to the one the log holds. Raises LogNotSaved."""
+        to the one the log holds; ``shares`` are the bootstrap shares shown beside the
+        table (recorded in the evidence). Raises LogNotSaved."""
         if row.recoding is None:
             raise ValueError(f"{row.label} has no learned recoding to accept")
         profile = self.profile_of(column)
@@ -253,8 +258,9 @@ class ReviewSession:
             row.recoding,
             (profile.minimum, profile.maximum),
             self.saved_note(column) if note is None else note,
-            self.evidence(column, row, groups, knots, by_hand, basis),
+            self.evidence(column, row, groups, knots, by_hand, basis, shares),
             {str(c) for c in self.dataset.column_names},
+            training_deciles(self.dataset.values(column)),
         )
 
     def missing_group(self, column: str) -> MissingGroup | None:
@@ -302,6 +308,7 @@ class ReviewSession:
         knots: int,
         by_hand: bool,
         basis: Basis | None = None,
+        shares: SelectionShares | None = None,
     ) -> Evidence:
         """What the screens showed when the form was accepted, and the covariates and
         weights it was judged with (evidence only: replay never reads them)."""
@@ -315,7 +322,10 @@ class ReviewSession:
             basis.weight_kind,
         )
         data = DataFingerprint(self.dataset.path.name, self.data_sha256)
-        return judged_evidence(row, groups, knots, by_hand, scan, self.scan_finished, design, data)
+        evidence = judged_evidence(
+            row, groups, knots, by_hand, scan, self.scan_finished, design, data
+        )
+        return with_selection(evidence, shares)
 
 
 def open_session(

@@ -21,6 +21,8 @@ class ReviewView:
     """Notes typed for columns not yet decided."""
     settings: dict[str, tuple[int, int]] = field(default_factory=dict)
     """Groups and knots set on the column screen for each column (while the app runs)."""
+    above: set[str] = field(default_factory=set)
+    """Columns whose indicators read 1 from the cut point upwards (else below it)."""
 
     def neighbour(self, column: str, step: int) -> str | None:
         """The column ``step`` places away in the list's order (None past either end)."""
@@ -40,6 +42,14 @@ class ReviewView:
     def add_cut(self, column: str, value: float) -> None:
         """One more indicator cut point typed for ``column``."""
         self.hand_cuts[column] = self.hand_cuts.get(column, ()) + (value,)
+
+    def side(self, column: str) -> str:
+        """Which side of its cut an indicator of ``column`` reads 1."""
+        return "above" if column in self.above else "below"
+
+    def flip_side(self, column: str) -> None:
+        """Indicators of ``column`` read 1 on the other side of the cut from now on."""
+        self.above ^= {column}
 
     def add_hinge(self, column: str, value: float) -> None:
         """One more hinge knot typed for ``column``."""

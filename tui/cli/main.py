@@ -7,7 +7,16 @@ import sys
 from collections.abc import Sequence
 
 from tui import __version__
-from tui.cli import diff_cmd, replay_cmd, report_cmd, review_cmd, scan_cmd, sql_cmd
+from tui.cli import (
+    check_cmd,
+    diff_cmd,
+    forms_cmd,
+    replay_cmd,
+    report_cmd,
+    review_cmd,
+    scan_cmd,
+    sql_cmd,
+)
 from tui.problems import InputProblem
 
 
@@ -33,6 +42,8 @@ def build_parser() -> argparse.ArgumentParser:
     sql_cmd.add_parser(commands)
     report_cmd.add_parser(commands)
     diff_cmd.add_parser(commands)
+    forms_cmd.add_parser(commands)
+    check_cmd.add_parser(commands)
     return parser
 
 

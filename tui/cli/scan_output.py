@@ -12,6 +12,7 @@ from tui.cautions import SHORT_CAUTION
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.scan import ColumnScan
 from tui.numbers_text import number_text, p_text
+from tui.table_rules import BEST_RULE, best_words
 
 FIELDS = (
     "column",
@@ -88,7 +89,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | Non
                 p_text(s.p_value),
                 p_text(s.q_value),
                 s.shape or "-",
-                s.best_form or "-",
+                best_words(s.best_form, s.delta_aic),
                 number_text(s.delta_aic),
                 ",".join(s.flags) or "-",
             )
@@ -122,6 +123,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | Non
             f"n counts rows; (w ...) beside it sums their {' and '.join(kinds)} weights"
             + (" (average 1 over each column's rows)." if "survey" in kinds else ".")
         )
+    lines.append(BEST_RULE + ".")
     if adjustment:
         lines.append(f"Every fit {adjustment} (a column is never adjusted for itself).")
     lines.append(f"Caution: {SHORT_CAUTION}")

@@ -23,7 +23,7 @@ from tui.engine.fittable import (
 )
 from tui.engine.forms.base import Candidate
 from tui.engine.forms.hinge import HingeCandidate
-from tui.engine.forms.indicator import IndicatorCandidate
+from tui.engine.forms.indicator import BELOW, IndicatorCandidate
 from tui.engine.forms.linear import LinearCandidate
 from tui.engine.forms.registry import default_candidates
 from tui.engine.groups import LogitGroup, logit_groups
@@ -46,15 +46,17 @@ class CandidateSet:
     """Indicator cut points entered by hand."""
     hinges: tuple[float, ...] = ()
     """Hinge knots entered by hand."""
+    side: str = BELOW
+    """Which side of its cut point an indicator reads 1 (``below`` or ``above``)."""
 
     def by_hand(self) -> list[Candidate]:
         """The candidates made from hand-entered numbers (hinges first)."""
         hand: list[Candidate] = [HingeCandidate(knot=k) for k in self.hinges]
-        return hand + [IndicatorCandidate(cut=c) for c in self.cuts]
+        return hand + [IndicatorCandidate(cut=c, side=self.side) for c in self.cuts]
 
     def candidates(self) -> list[Candidate]:
         """The engine's default candidates, then the hand-entered ones."""
-        return default_candidates(self.groups, self.knots) + self.by_hand()
+        return default_candidates(self.groups, self.knots, self.side) + self.by_hand()
 
     def hand_labels(self) -> set[str]:
         """Labels of the candidates entered by hand."""

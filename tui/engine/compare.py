@@ -17,6 +17,9 @@ EVENTS_PER_PARAMETER = 10
 """Rule of thumb: at least 10 events per estimated parameter (Peduzzi et al. 1996)."""
 
 NOTE_FEW_EVENTS = "few events per parameter"
+POWER_SPAN = 5.0
+"""A Box-Tidwell interval wider than this (the span of the FP powers, -2 to 3) says
+nothing about the power."""
 
 
 @dataclass(frozen=True)
@@ -91,6 +94,31 @@ class BoxTidwell:
     """One-step estimate of the power of x: 1 + gamma / beta."""
     shift: float
     """Shift added to x first (0 when x > 0 throughout)."""
+    low: float = float("nan")
+    """Lower end of the power's 95% interval (delta method on the x ln x coefficient)."""
+    high: float = float("nan")
+    """Upper end of that interval."""
+    monotone: bool = True
+    """False when a quadratic in x turns inside the central 90% of the rows and its
+    square term is clear (LR p < 0.05): a power of x, always monotone, cannot follow it
+    (a flat stretch before a rise reads so too)."""
+
+    @property
+    def meaningful(self) -> bool:
+        """The power reads as a shape: a finite interval no wider than ``POWER_SPAN`` on a
+        monotone curve."""
+        finite = bool(np.isfinite(self.low) and np.isfinite(self.high))
+        return finite and self.high - self.low <= POWER_SPAN and self.monotone
+
+    def why_not(self) -> str | None:
+        """Why the power is not meaningful (None when it is)."""
+        if not self.monotone:
+            return "curve not monotone"
+        if not (np.isfinite(self.low) and np.isfinite(self.high)):
+            return "no interval"
+        if self.high - self.low > POWER_SPAN:
+            return "interval too wide"
+        return None
 
 
 @dataclass(frozen=True)
@@ -197,7 +225,38 @@ def box_tidwell(counts: ReducedCounts, linear: LogisticFit | None) -> BoxTidwell
     chi2, p = lr_test(restricted, full, 1)
     beta = restricted.coef[at]
     power = 1.0 + full.coef[at + 1] / beta if beta != 0 else float("nan")
-    return BoxTidwell(chi2, p, float(power), shift)
+    design = np.column_stack([base, z, z * np.log(z)])
+    half = 1.96 * _coef_se(design, counts, full, at + 1) / abs(beta) if beta != 0 else np.nan
+    return BoxTidwell(
+        chi2, p, float(power), shift, power - half, power + half, _monotone(counts, base, z)
+    )
+
+
+def _coef_se(design: np.ndarray, counts: ReducedCounts, fit: LogisticFit, j: int) -> float:
+    """Standard error of coefficient j from the inverse information at the fit."""
+    mu = 1.0 / (1.0 + np.exp(-(design @ fit.coef)))
+    info = (design * (counts.trials * mu * (1 - mu))[:, None]).T @ design
+    try:
+        return float(np.sqrt(np.linalg.inv(info)[j, j]))
+    except np.linalg.LinAlgError:
+        return float("nan")
+
+
+def _monotone(counts: ReducedCounts, base: np.ndarray, z: np.ndarray) -> bool:
+    """False when a quadratic in z clearly turns inside the central 90% of the rows."""
+    try:
+        line = fit_logistic(np.column_stack([base, z]), counts.events, counts.trials)
+        bend = fit_logistic(np.column_stack([base, z, z * z]), counts.events, counts.trials)
+    except ValueError:
+        return True
+    _, p = lr_test(line, bend, 1)
+    b1, b2 = bend.coef[-2], bend.coef[-1]
+    if not (p < 0.05) or b2 == 0:
+        return True
+    turn = -b1 / (2 * b2)
+    low, high = (float(v) for v in counts.quantile([0.05, 0.95]))
+    shift = float(z[0] - counts.x[0])
+    return not (low + shift < turn < high + shift)
 
 
 def compare_forms(

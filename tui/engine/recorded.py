@@ -18,6 +18,9 @@ class FixedCandidate(Candidate):
 
     recoding: Recoding
     title: str | None = None
+    searched: bool = False
+    """The numbers were searched on the data this row is fitted to (the one df rule:
+    ``tui.table_rules.DF_RULE``), e.g. a report on the data the decision was made on."""
 
     @property
     def form(self) -> Kind:  # type: ignore[override]
@@ -32,13 +35,20 @@ class FixedCandidate(Candidate):
         return self.title or self.recoding.describe()
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(self.recoding)
+        return Learned(self.recoding, searched=self.searched)
 
 
 def fit_recoding(
-    recoding: Recoding, counts: ReducedCounts, linear: FormFit, title: str | None = None
+    recoding: Recoding,
+    counts: ReducedCounts,
+    linear: FormFit,
+    title: str | None = None,
+    searched: bool = False,
 ) -> FormFit:
     """Fit a fixed recoding to counts and compare it with the linear row; whether a
     likelihood-ratio test applies is the kind's to say (``Kind.nests_linear``). The counts
-    hold complete cases only, so a missing-value fill is left out of this fit."""
-    return fit_candidate(FixedCandidate(recoding.without_missing(), title), counts, linear)
+    hold complete cases only, so a missing-value fill is left out of this fit.
+    ``searched``: count the search's df, as on the data the numbers were searched on."""
+    return fit_candidate(
+        FixedCandidate(recoding.without_missing(), title, searched), counts, linear
+    )

@@ -72,6 +72,10 @@ def _decision_entry(decision: Decision, index: int) -> dict[str, Any]:
     entry.update(
         outputs=list(decision.outputs),
         range=[float(decision.range[0]), float(decision.range[1])],
+    )
+    if decision.deciles is not None:
+        entry["deciles"] = [float(v) for v in decision.deciles]
+    entry.update(
         note=decision.note,
         decided_at=decision.decided_at,
         # Evidence is a record of what was shown; a number that could not be computed
@@ -157,11 +161,17 @@ def _decision(item: Mapping[str, Any], index: int) -> Decision:
     low, high = (float(v) for v in item["range"])
     if low > high:
         raise EntryProblem(f"{where}.range", f"training minimum {low} exceeds maximum {high}")
+    deciles = item.get("deciles")
+    if deciles is not None:
+        deciles = tuple(float(v) for v in deciles)
+        if any(b < a for a, b in zip(deciles, deciles[1:], strict=False)):
+            raise EntryProblem(f"{where}.deciles", "must be in ascending order")
     return Decision(
         column=item["column"],
         recoding=recoding,
         outputs=outputs,
         range=(low, high),
+        deciles=deciles,
         note=item["note"],
         decided_at=_timestamp(item["decided_at"], f"{where}.decided_at"),
         evidence=Evidence.from_json(item["evidence"], f"{where}.evidence"),

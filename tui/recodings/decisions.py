@@ -17,6 +17,7 @@ from typing import Any
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import MissingFill, Recoding
 from tui.engine.scan import ColumnScan
+from tui.engine.stability import SelectionShares
 from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.recodings.evidence import (
@@ -24,6 +25,7 @@ from tui.recodings.evidence import (
     Evidence,
     RowFigures,
     ScoreFigures,
+    Selection,
     Weights,
 )
 from tui.recodings.load import load
@@ -194,6 +196,15 @@ def judged_evidence(
     )
 
 
+def with_selection(evidence: Evidence, shares: SelectionShares | None) -> Evidence:
+    """The evidence with the bootstrap shares shown beside the table (None: not computed)."""
+    if shares is None:
+        return evidence
+    return replace(
+        evidence, selection=Selection(shares.resamples, shares.seed, dict(shares.shares))
+    )
+
+
 @dataclass
 class DecisionBook:
     """The recoding log of one review and every change to it, each saved before it counts."""
@@ -238,12 +249,20 @@ class DecisionBook:
         note: str,
         evidence: Evidence,
         source_columns: set[str],
+        deciles: tuple[float, ...] | None = None,
     ) -> Decision:
         """Record ``recoding`` for ``column`` (output names clear of ``source_columns`` and
-        of the log's other outputs) and save the log."""
+        of the log's other outputs) and save the log; ``deciles`` are the training
+        column's, kept for ``bendwise check``."""
         taken = source_columns | self.log.without(column).output_names()
         decision = Decision.make(
-            column, recoding, training_range, note=note, evidence=evidence, taken=taken
+            column,
+            recoding,
+            training_range,
+            note=note,
+            evidence=evidence,
+            taken=taken,
+            deciles=deciles,
         )
         what = KEPT_LINEAR if is_kept_linear(recoding) else recoding.describe()
         self._commit(self.log.with_decision(decision), f"{column} {what}")

@@ -37,6 +37,7 @@ KEYS = (
     "weight",
     "weight_kind",
     "data",
+    "selection",
 )
 """Every evidence key this version writes."""
 
@@ -102,6 +103,23 @@ class DataFingerprint:
 
 
 @dataclass(frozen=True)
+class Selection:
+    """Bootstrap selection shares of the candidate table (key ``selection``): how often
+    each form had the lowest AIC across resamples (Sauerbrei & Schumacher 1992)."""
+
+    resamples: int
+    """Resamples drawn."""
+    seed: int
+    """Seed of the resampling (the same seed on the same data gives the same shares)."""
+    shares: Mapping[str, float]
+    """Share of resamples won, by the table's row key (``spline``, ``hinge@168.0``)."""
+
+    def to_json(self) -> dict[str, Any]:
+        """As written in the log."""
+        return {"resamples": self.resamples, "seed": self.seed, "shares": dict(self.shares)}
+
+
+@dataclass(frozen=True)
 class Evidence(Mapping[str, Any]):
     """What the screens showed when a form was accepted, and the design it was judged in.
 
@@ -126,6 +144,10 @@ class Evidence(Mapping[str, Any]):
     """Row weights of the fits."""
     data: DataFingerprint | None = None
     """The data the decision was judged on; None when not recorded."""
+    selection: Selection | None = None
+    """Bootstrap selection shares shown when the form was accepted; None when they were
+    not computed (adjusted checks, accepted before they were in) or not recorded (logs
+    written before this key existed)."""
     recorded: frozenset[str] = frozenset(KEYS)
     """The keys the log entry holds (all of ``KEYS`` for evidence bendwise writes now)."""
     extra: Mapping[str, Any] = field(default_factory=dict)
@@ -160,6 +182,7 @@ class Evidence(Mapping[str, Any]):
             "weight": w.column,
             "weight_kind": w.kind,
             "data": data,
+            "selection": None if self.selection is None else self.selection.to_json(),
         }
         return {**{k: v for k, v in every.items() if k in self.recorded}, **self.extra}
 
@@ -195,6 +218,7 @@ class Evidence(Mapping[str, Any]):
             adjustment=read.text("adjustment"),
             weights=Weights(read.text("weight"), read.text("weight_kind")),
             data=read.fingerprint("data"),
+            selection=read.selection("selection"),
             recorded=frozenset(k for k in KEYS if k in document),
             extra={k: v for k, v in document.items() if k not in KEYS},
         )
@@ -262,6 +286,25 @@ class _Reader:
         if isinstance(value, bool):
             return value
         raise self._bad(key, "true or false")
+
+    def selection(self, key: str) -> Selection | None:
+        value = self._doc.get(key)
+        if value is None:
+            return None
+        wanted = '{"resamples": n, "seed": n, "shares": {form: share}}'
+        if not isinstance(value, Mapping) or set(value) != {"resamples", "seed", "shares"}:
+            raise self._bad(key, wanted)
+        counts = value["resamples"], value["seed"]
+        shares = value["shares"]
+        whole = all(isinstance(v, Integral) and not isinstance(v, bool) and v >= 0 for v in counts)
+        if not whole or not isinstance(shares, Mapping):
+            raise self._bad(key, wanted)
+        for form, share in shares.items():
+            if not isinstance(form, str) or isinstance(share, bool) or not isinstance(share, Real):
+                raise self._bad(key, wanted)
+            if not 0 <= float(share) <= 1:
+                raise self._bad(key, wanted)
+        return Selection(int(counts[0]), int(counts[1]), {k: float(v) for k, v in shares.items()})
 
     def fingerprint(self, key: str) -> DataFingerprint | None:
         value = self._doc.get(key)

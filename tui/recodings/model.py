@@ -32,6 +32,9 @@ class Decision:
     """Names of the derived columns, in output order."""
     range: tuple[float, float]
     """Smallest and largest training value of the source column."""
+    deciles: tuple[float, ...] | None = None
+    """The 10th to 90th percentiles of the training column (ascending), for checking the
+    drift of a later extract; None in logs written before they were recorded."""
     note: str = ""
     """The analyst's reason."""
     decided_at: str = field(default_factory=now_iso)
@@ -54,6 +57,7 @@ class Decision:
         note: str = "",
         evidence: Evidence | Mapping[str, Any] | None = None,
         taken: set[str] | frozenset[str] = frozenset(),
+        deciles: tuple[float, ...] | None = None,
     ) -> Decision:
         """A decision whose output names avoid the names in ``taken``; ``evidence`` given
         as JSON values is read as a log entry's would be (raises EntryProblem)."""
@@ -66,6 +70,7 @@ class Decision:
             recoding=recoding,
             outputs=tuple(output_names(column, recoding, taken)),
             range=(float(training_range[0]), float(training_range[1])),
+            deciles=None if deciles is None else tuple(float(v) for v in deciles),
             note=note,
             evidence=evidence,
         )

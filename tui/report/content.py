@@ -12,14 +12,15 @@ from tui import __version__
 from tui.cautions import CAUTIONS
 from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.column_fits import CandidateSet, fit_column
-from tui.engine.compare import FormFit
-from tui.engine.counts import reduce_column
+from tui.engine.compare import ComparisonTable, FormFit
+from tui.engine.counts import ReducedCounts, reduce_column
 from tui.engine.groups import logit_groups
 from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.engine.smoother import smoothed_log_odds
+from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, METHOD, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
@@ -97,6 +98,7 @@ class DecisionSection:
     """The picture's window, set as the review screen sets it (``plot_window``)."""
     smoother: tuple[tuple[float, ...], tuple[float, ...]] | None = None
     """The LOWESS smoother inside the window (x, log-odds), as on the review screen."""
+    shares: str = ""
 
 
 @dataclass(frozen=True)
@@ -120,9 +122,35 @@ def _finite(v: float | None) -> float | None:
     return None if v is None or not math.isfinite(v) else float(v)
 
 
-def _form_line(row: FormFit, accepted: bool) -> FormLine:
+def _was_searched(decision: Decision) -> bool:
+    """Whether the recorded numbers were searched (not typed): the evidence's df counts
+    more numbers than the form's outputs. Without a recorded df the numbers count as
+    fixed in the log (nothing searched on the report's data)."""
+    recoding, row = decision.recoding, decision.evidence.row
+    if recoding.form.searched_df == 0 or row.df is None:
+        return False
+    return row.df > len(recoding.suffixes())
+
+
+def _shares_text(
+    counts: ReducedCounts, table: ComparisonTable, wanted: CandidateSet, evidence: Evidence
+) -> str:
+    """The bootstrap selection shares on the report's data, with the decision's seed."""
+    recorded = evidence.selection
+    resamples = recorded.resamples if recorded else DEFAULT_RESAMPLES
+    seed = recorded.seed if recorded else DEFAULT_SEED
+    shares = selection_shares(counts, table, wanted.candidates(), resamples, seed)
+    if shares is None:
+        return "Bootstrap selection shares: not computed for adjusted checks."
+    labels = {r.key: r.recoding.describe() if r.recoding else r.label for r in table.rows}
+    return f"Bootstrap selection shares ({METHOD}): {shares.leaders(labels, top=3)}, seed {seed}."
+
+
+def _form_line(row: FormFit, accepted: bool, title: str | None = None) -> FormLine:
     # Searched forms are shown with what the search found (e.g. "hinge at 27.6").
-    label = row.label if accepted or row.recoding is None else row.recoding.describe()
+    label = row.label if row.recoding is None else row.recoding.describe()
+    if accepted and title:
+        label = title
     return FormLine(
         label=label,
         df=row.df,
@@ -162,9 +190,19 @@ def _section(
     table = fit_column(counts, CandidateSet(groups_n, knots_n), smooth=False).table
     if table is None:  # no finite values, or one outcome class among the rows with one
         raise InputProblem(f"{data.path.name}: '{decision.column}' cannot be fitted again")
+    # The accepted form appears once: its candidate row when the table holds the same
+    # recoding, else the recorded one refitted first (its df by the one df rule).
+    same = next((r for r in table.rows if r.recoding == decision.recoding), None)
     title = f"accepted: {decision.recoding.describe()}"
-    chosen = fit_recoding(decision.recoding, counts, table.linear, title=title)
-    forms = [_form_line(chosen, True)] + [_form_line(r, False) for r in table.rows]
+    if same is not None:
+        chosen = same
+        forms = [_form_line(r, r is same, title) for r in table.rows]
+    else:
+        searched = _was_searched(decision)
+        chosen = fit_recoding(decision.recoding, counts, table.linear, title, searched)
+        forms = [_form_line(chosen, True, title)] + [_form_line(r, False) for r in table.rows]
+    wanted = CandidateSet(groups_n, knots_n)
+    shares = _shares_text(counts, table, wanted, decision.evidence)
 
     lines, withheld, shown = [], 0, []
     for i, g in enumerate(logit_groups(plain, groups_n), 1):
@@ -212,6 +250,7 @@ def _section(
         missing=missing_part(data, decision, min_cell),
         window=window,
         smoother=smooth,
+        shares=shares,
     )
 
 

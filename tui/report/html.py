@@ -8,6 +8,7 @@ from tui.report.content import DecisionSection, ReportContent
 from tui.report.missing_part import missing_sentences
 from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.svgplot import svg_plot
+from tui.table_rules import DF_RULE, LR_DASH
 
 STYLE = """
 body { font-family: sans-serif; max-width: 60em; margin: 2em auto; line-height: 1.4; }
@@ -44,7 +45,12 @@ def _decision(d: DecisionSection, outcome: str) -> str:
     ]  # fmt: skip
     classes = ["accepted" if f.accepted else "" for f in d.forms]
     header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
+    parts.append(
+        f"<p>Fit status is ok, separation, not-converged or failed; the accepted form is "
+        f"marked. {escape(DF_RULE)} {escape(LR_DASH)}.</p>"
+    )
     parts.append(_table(header, rows, classes))
+    parts.append(f"<p>{escape(d.shares)}</p>")
     grows = [
         [str(g.rank), fmt_x(g.median), g.n, g.events, g.nonevents, fmt(g.logit, 3), fmt(g.se, 3)]
         for g in d.groups

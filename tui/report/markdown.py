@@ -6,6 +6,7 @@ from tui.report.content import DecisionSection, ReportContent
 from tui.report.missing_part import missing_sentences
 from tui.report.numbers import evidence_words, fmt, fmt_p, fmt_x
 from tui.report.textplot import text_plot
+from tui.table_rules import DF_RULE, LR_DASH
 
 
 def _table(header: list[str], rows: list[list[str]]) -> list[str]:
@@ -22,11 +23,8 @@ def _decision(d: DecisionSection) -> list[str]:
     shown = evidence_words(d.evidence)
     if shown:
         out += [f"Evidence recorded at decision time: {shown}.", ""]
-    out.append(
-        "Candidate forms on this data (AIC counts searched cut points and powers; fit status "
-        "is ok, separation, not-converged or failed):"
-    )
-    out.append("")
+    out += [f"Candidate forms on this data (fit status is ok, separation, not-converged or "
+            f"failed; the accepted form in bold). {DF_RULE} {LR_DASH}.", ""]  # fmt: skip
     rows = [
         [
             ("**" + f.label + "**") if f.accepted else f.label,
@@ -42,7 +40,7 @@ def _decision(d: DecisionSection) -> list[str]:
     ]
     header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
     out += _table(header, rows)
-    out += ["", "Quantile groups:", ""]
+    out += ["", d.shares, "", "Quantile groups:", ""]
     grows = [
         [str(g.rank), fmt_x(g.median), g.n, g.events, g.nonevents, fmt(g.logit, 3), fmt(g.se, 3)]
         for g in d.groups

@@ -27,8 +27,9 @@ def _shown(evidence: Evidence) -> list[tuple[str, object]]:
     knots = evidence.knots if evidence.holds("knots") else None
     return [
         ("form", row.form),
+        ("form df", row.df),
         ("spline score", score.statistic),
-        ("df", score.df),
+        ("score df", score.df),
         ("q-value", fmt_p(score.q_value) if score.q_value is not None else None),
         ("ΔAIC", row.delta_aic),
         ("groups", groups),

@@ -96,4 +96,7 @@ def counts_line(profile: ColumnProfile, scan: ColumnScan | None) -> str:
 
 def settings_line(groups: int, knots: int) -> str:
     """The setting keys and their values now (the footer has no room for them)."""
-    return f"g {groups} groups · s {knots} knots · c cut · h hinge · v recoded · t table · z undo"
+    return (
+        f"g {groups} groups · s {knots} knots · c cut · h hinge · b side · v view · t table"
+        " · z undo"
+    )

@@ -36,11 +36,12 @@ from tui.app.screens.column_lines import (
 from tui.app.screens.decisions import DecisionsScreen
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
+from tui.app.screens.share_line import SharesHook, share_line
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
-from tui.app.text import p_text, path_text
+from tui.app.text import path_text
 from tui.app.view_state import ReviewView
-from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
+from tui.app.widgets.forms_table import FormsTable, form_text, power_words, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
 from tui.app.widgets.missing_panel import MissingPanel
@@ -50,14 +51,20 @@ from tui.engine.forms.base import Recoding
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
 from tui.engine.groups import GROUP_CHOICES
+from tui.engine.stability import SelectionShares
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
 MISSING_TIP = "Code a missing x for the accepted form: leave, fill, or fill + indicator"
+SIDE_TIP = "Indicators read 1 on the other side of the cut point"
+SIDE_WORDS = {
+    "below": "The indicator is 1 below the cut point and 0 from it upwards (b: the other side).",
+    "above": "The indicator is 1 from the cut point upwards and 0 below it (b: the other side).",
+}
 
 
-class InspectScreen(Screen[str]):
+class InspectScreen(SharesHook, Screen[str]):
     """One column under inspection; dismisses with the column last shown."""
 
     CSS_PATH = "inspect.tcss"
@@ -74,6 +81,7 @@ class InspectScreen(Screen[str]):
         Binding("s", "cycle_knots", "Knots", tooltip=KNOTS_TIP, show=False),
         Binding("c", "enter_cut", "Cut", tooltip=CUT_TIP, show=False),
         Binding("h", "enter_hinge", "Hinge", tooltip=HINGE_TIP, show=False),
+        Binding("b", "flip_side", "Side", tooltip=SIDE_TIP, show=False),
         Binding("L", "decisions", "Log", tooltip="Open the recoding log", show=False),
         Binding("f", "code_missing", "Missing", tooltip=MISSING_TIP, show=False),
         Binding("v", "recoded_view", "Recoded view", tooltip=RECODED_TIP, show=False),
@@ -85,6 +93,7 @@ class InspectScreen(Screen[str]):
         self.session, self.cache, self.column = session, cache, column
         self.view: ReviewView = session.view  # the list's order, typed numbers, drafts
         self.fits: ColumnFits | None = None
+        self.shares: SelectionShares | None = None
         self._want_key: str | None = None
         self.recoded = False
         """The plot shows the recoded view (groups against the form's linear predictor)."""
@@ -99,6 +108,7 @@ class InspectScreen(Screen[str]):
             yield MissingPanel(id="missing")
         yield Line("", id="legend")
         yield FormsTable(id="forms")
+        yield Line("", id="shares")
         yield Line("", id="notes")
         yield Line("", id="caution")
         yield Line("", id="note")
@@ -130,6 +140,7 @@ class InspectScreen(Screen[str]):
             self.view.hand_cuts.get(self.column, ()),
             self.view.hand_hinges.get(self.column, ()),
             self.session.basis_of(self.column),
+            self.view.side(self.column),
         )
 
     @on(ScoresChanged)
@@ -173,6 +184,7 @@ class InspectScreen(Screen[str]):
         fits = self.cache.fits(request)
         if not get_current_worker().is_cancelled:
             self.post_message(FitsReady(fits))
+        self.compute_shares(request)
 
     @on(FitsReady)
     def _arrived(self, message: FitsReady) -> None:
@@ -188,8 +200,12 @@ class InspectScreen(Screen[str]):
 
     def _show_fits(self, fits: ColumnFits) -> None:
         self.fits = fits
+        done, self.shares = self.cache.cached_shares(fits.request)
+        self.query_one("#shares", Line).update(share_line(fits, self.shares, pending=not done))
+        if not done and not self.fit_worker_running():
+            self.shares_worker(fits.request)
         table = self.query_one(FormsTable)
-        table.show(fits, self._accepted())
+        table.show(fits, self._accepted(), self.shares)
         if self._want_key is not None:
             table.move_to_key(self._want_key)
             self._want_key = None
@@ -256,7 +272,7 @@ class InspectScreen(Screen[str]):
         words = row_notes(row, row.label in fits.request.hand_labels())
         bt = fits.table.box_tidwell if fits.table is not None else None
         if row.kind == "linear" and bt is not None:
-            words.append(f"Box–Tidwell power {bt.power:.2f}, p {p_text(bt.p_value)}")
+            words.append(power_words(bt))
         notes.update(f"form notes ({form_text(row)}): " + ("; ".join(words) or "none"))
         if row.form.cut_based:
             caution.update(f"Caution: {CUT_CAUTION}")
@@ -303,7 +319,10 @@ class InspectScreen(Screen[str]):
         basis = fits.request.basis  # the design the row was fitted with
         column, groups, knots = self.column, self.groups, self.knots
         note = self.note()
-        self._decide(lambda: self.session.accept(column, row, groups, knots, hand, basis, note))
+        shares = self.shares
+        self._decide(
+            lambda: self.session.accept(column, row, groups, knots, hand, basis, note, shares)
+        )
 
     def action_keep_linear(self) -> None:
         """Keep this column as a plain linear term."""
@@ -315,7 +334,10 @@ class InspectScreen(Screen[str]):
         basis = fits.request.basis
         column, groups, knots = self.column, self.groups, self.knots
         note = self.note()
-        self._decide(lambda: self.session.accept(column, linear, groups, knots, False, basis, note))
+        shares = self.shares
+        self._decide(
+            lambda: self.session.accept(column, linear, groups, knots, False, basis, note, shares)
+        )
 
     def _decide(self, record: Callable[[], Decision]) -> None:
         try:
@@ -372,7 +394,7 @@ class InspectScreen(Screen[str]):
 
     def _after_change(self) -> None:
         if self.fits is not None:
-            self.query_one(FormsTable).show(self.fits, self._accepted())
+            self.query_one(FormsTable).show(self.fits, self._accepted(), self.shares)
         self._refresh_heading()
 
     # --- settings and hand-entered forms ------------------------------------------------
@@ -381,6 +403,13 @@ class InspectScreen(Screen[str]):
         """Next number of quantile groups (4, 5, 10, 20)."""
         self.view.settings[self.column] = (next_choice(GROUP_CHOICES, self.groups), self.knots)
         self._refresh_heading()
+        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
+
+    def action_flip_side(self) -> None:
+        """Indicators read 1 on the other side of their cut point (the fit is the same;
+        the coefficient changes sign, and the log records the side)."""
+        self.view.flip_side(self.column)
+        tell(self, f"indicators now read 1 {self.view.side(self.column)} the cut", timeout=3)
         self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
 
     def action_cycle_knots(self) -> None:
@@ -406,7 +435,7 @@ class InspectScreen(Screen[str]):
             return
         prompt = ValuePrompt(
             f"Cut point for {self.column}",
-            "The indicator is 1 below the cut point and 0 from it upwards.",
+            SIDE_WORDS[self.view.side(self.column)],
             *span,
         )
         self.app.push_screen(prompt, self._cut_entered)
@@ -427,7 +456,7 @@ class InspectScreen(Screen[str]):
     def _cut_entered(self, value: float | None) -> None:
         if value is None:
             return
-        cut = IndicatorCandidate(cut=value)
+        cut = IndicatorCandidate(cut=value, side=self.view.side(self.column))
         known = {c.label: c.key for c in self.request().wanted.by_hand()}
         if cut.label not in known:  # 12.5 and 12.5000001 read the same
             self.view.add_cut(self.column, value)

@@ -23,6 +23,7 @@ from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import TriageTable
 from tui.engine.scan import ColumnScan
+from tui.table_rules import best_words
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
 """Orders of the list, in the order the sort key steps through them."""
@@ -227,7 +228,7 @@ class TriageScreen(Screen[None]):
             empty = "no column matches" if self.session.ranked else "waiting for the first column…"
             detail.update(empty)
             return
-        best = scan.best_form or "-"
+        best = best_words(scan.best_form, scan.delta_aic)
         basis = ""
         if self.query_one(TriageTable).adjusted_shown:
             named = ", ".join(scan.adjusted_for)

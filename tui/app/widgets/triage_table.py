@@ -10,6 +10,7 @@ from tui.app.text import number_text, p_text
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.engine.scan import ColumnScan
 from tui.recodings.decisions import KEPT_LINEAR, SET_ASIDE, UNDECIDED
+from tui.table_rules import best_words
 
 PENDING = "…"
 """Shown for q-values and shape hints until every column is scanned."""
@@ -47,7 +48,7 @@ def scan_row(scan: ColumnScan, word: str, final: bool) -> Row:
         "adjusted": ", ".join(scan.adjusted_for) or UNADJUSTED,
         "q": p_text(scan.q_value) if final else PENDING,
         "shape": (scan.shape or "-") if final else (PENDING if scan.score is not None else "-"),
-        "best": scan.best_form or "-",
+        "best": best_words(scan.best_form, scan.delta_aic),
         "delta_aic": number_text(scan.delta_aic),
         "flags": ", ".join(scan.flags) or "-",
         "decision": word,

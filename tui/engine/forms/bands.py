@@ -12,7 +12,6 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import (
-    NOTE_DICHOTOMY,
     Candidate,
     Kind,
     Learned,
@@ -23,6 +22,8 @@ from tui.engine.forms.base import (
     words_list,
 )
 from tui.engine.groups import group_edges, group_index
+
+NOTE_BANDS = "bands assume a flat risk within each band and steps between them"
 
 
 def band_edges(counts: ReducedCounts, groups: int) -> list[float]:
@@ -42,9 +43,8 @@ class BandsKind(Kind):
     cut_based = True  # several groups, not a dichotomy
 
     def notes(self, searched: bool) -> list[str]:
-        # Categories lose the information within each band, as a dichotomy does; the
-        # note's wording is shared with the indicator's.
-        return [NOTE_DICHOTOMY]
+        # Several groups are not a dichotomy, but they too lose what varies within a band.
+        return [NOTE_BANDS]
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_sorted_numbers(params, "edges", 1)

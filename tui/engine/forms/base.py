@@ -304,6 +304,8 @@ class Learned:
     """The learned recoding."""
     searched: bool = False
     """A cut point or power was chosen from the data (p-values optimistic)."""
+    remarks: tuple[str, ...] = ()
+    """What learning had to change from what was asked (e.g. fewer knots than asked)."""
 
     @property
     def df(self) -> int:
@@ -321,8 +323,8 @@ class Learned:
 
     @property
     def notes(self) -> list[str]:
-        """The kind's cautions on this row."""
-        return self.recoding.form.notes(self.searched)
+        """The kind's cautions on this row, after what learning had to change."""
+        return [*self.remarks, *self.recoding.form.notes(self.searched)]
 
 
 class Candidate(ABC):
@@ -352,6 +354,12 @@ class Candidate(ABC):
     @abstractmethod
     def label(self) -> str:
         """Readable name with options, e.g. ``spline, 4 knots``."""
+
+    def search_options(self, counts: ReducedCounts) -> list[Recoding] | None:
+        """The recodings a search of this candidate chooses among on ``counts`` (by
+        likelihood, as ``search`` does); None for a candidate that searches nothing.
+        Resampling re-runs the search over these (``engine/stability.py``)."""
+        return None
 
     @abstractmethod
     def learn(self, counts: ReducedCounts) -> Learned:

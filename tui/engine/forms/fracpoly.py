@@ -159,10 +159,12 @@ class Fp1Candidate(Candidate):
     def label(self) -> str:
         return FP1.label
 
-    def learn(self, counts: ReducedCounts) -> Learned:
+    def search_options(self, counts: ReducedCounts) -> list[Recoding]:
         shift = learn_shift(counts)
-        options = [Recoding(FP1, {"power": p, "shift": shift}) for p in POWERS]
-        return Learned(search(options, counts), searched=True)
+        return [Recoding(FP1, {"power": p, "shift": shift}) for p in POWERS]
+
+    def learn(self, counts: ReducedCounts) -> Learned:
+        return Learned(search(self.search_options(counts), counts), searched=True)
 
 
 class Fp2Candidate(Candidate):
@@ -176,10 +178,12 @@ class Fp2Candidate(Candidate):
     def label(self) -> str:
         return FP2.label
 
-    def learn(self, counts: ReducedCounts) -> Learned:
+    def search_options(self, counts: ReducedCounts) -> list[Recoding]:
         shift = learn_shift(counts)
-        options = [
+        return [
             Recoding(FP2, {"powers": [p1, p2], "shift": shift})
             for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
         ]
-        return Learned(search(options, counts), searched=True)
+
+    def learn(self, counts: ReducedCounts) -> Learned:
+        return Learned(search(self.search_options(counts), counts), searched=True)

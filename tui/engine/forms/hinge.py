@@ -84,12 +84,16 @@ class HingeCandidate(Candidate):
     def label(self) -> str:
         return HINGE.label if self.knot is None else f"hinge at {self.knot:.6g}"
 
+    def search_options(self, counts: ReducedCounts) -> list[Recoding] | None:
+        if self.knot is not None:
+            return None
+        # A knot at the largest x would add a column of zeros: strictly inside the range.
+        return [Recoding(HINGE, {"knot": c}) for c in cut_candidates(counts, upper_included=False)]
+
     def learn(self, counts: ReducedCounts) -> Learned:
         if self.knot is not None:
             return Learned(Recoding(HINGE, {"knot": float(self.knot)}))
-        # A knot at the largest x would add a column of zeros: strictly inside the range.
-        knots = cut_candidates(counts, upper_included=False)
-        options = [Recoding(HINGE, {"knot": c}) for c in knots]
+        options = self.search_options(counts) or []
         if not options:
             raise RecodingError("too few distinct values to place a hinge")
         return Learned(search(options, counts), searched=True)

@@ -1,4 +1,6 @@
-"""Threshold indicator: 1 when x < c, else 0."""
+"""Threshold indicator: 1 when x < c, else 0 (side ``below``, the default and the meaning
+of every log without a side), or 1 when x ≥ c (side ``above``), so that the coefficient
+reads as the change in risk on the side the analyst cares about. Both sides fit alike."""
 
 from __future__ import annotations
 
@@ -22,6 +24,21 @@ from tui.engine.forms.base import (
 )
 from tui.engine.forms.cutpoints import cut_candidates
 
+BELOW, ABOVE = "below", "above"
+SIDES = (BELOW, ABOVE)
+_SIGN = {BELOW: "<", ABOVE: "≥"}
+
+
+def side_of(params: Mapping[str, Any]) -> str:
+    """The side that reads 1; a log without one means ``below``."""
+    return str(params.get("side", BELOW))
+
+
+def side_params(cut: float, side: str) -> dict[str, Any]:
+    """An indicator's params: ``side`` written only when it is ``above`` (so a log of the
+    default side reads as every earlier log did)."""
+    return {"cut": float(cut)} if side == BELOW else {"cut": float(cut), "side": side}
+
 
 class IndicatorKind(Kind):
     key = label = "indicator"
@@ -32,24 +49,30 @@ class IndicatorKind(Kind):
 
     def validate(self, params: Mapping[str, Any]) -> None:
         check_number(params, "cut")
+        if params.get("side", BELOW) not in SIDES:
+            raise RecodingError('params.side must be "below" or "above"')
 
     def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
-        return (x < float(params["cut"])).astype(float)[:, None]
+        cut = float(params["cut"])
+        ones = x >= cut if side_of(params) == ABOVE else x < cut
+        return ones.astype(float)[:, None]
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
-        return ["below"]
+        return [side_of(params)]
 
     def describe(self, params: Mapping[str, Any]) -> str:
-        return f"indicator x < {float(params['cut']):.6g}"
+        return f"indicator x {_SIGN[side_of(params)]} {float(params['cut']):.6g}"
 
     def words(self, params: Mapping[str, Any]) -> str:
-        return f"indicator: 1 when x < {words_number(float(params['cut']))}, else 0"
+        sign, cut = _SIGN[side_of(params)], words_number(float(params["cut"]))
+        return f"indicator: 1 when x {sign} {cut}, else 0"
 
     def shows_threshold(self, form_coef: np.ndarray) -> bool:
         return True  # a step is all an indicator can draw
 
     def sql(self, params: Mapping[str, Any], x: str, dialect: str) -> list[str]:
-        return [f"CASE WHEN {x} < {sql_number(float(params['cut']))} THEN 1.0 ELSE 0.0 END"]
+        sign = "<" if side_of(params) == BELOW else ">="
+        return [f"CASE WHEN {x} {sign} {sql_number(float(params['cut']))} THEN 1.0 ELSE 0.0 END"]
 
 
 INDICATOR = IndicatorKind()
@@ -60,8 +83,9 @@ class IndicatorCandidate(Candidate):
 
     form = INDICATOR
 
-    def __init__(self, cut: float | None = None) -> None:
+    def __init__(self, cut: float | None = None, side: str = BELOW) -> None:
         self.cut = cut
+        self.side = side
 
     @property
     def key(self) -> str:
@@ -73,12 +97,19 @@ class IndicatorCandidate(Candidate):
 
     @property
     def label(self) -> str:
-        return INDICATOR.label if self.cut is None else f"indicator x < {self.cut:.6g}"
+        if self.cut is None:
+            return INDICATOR.label
+        return f"indicator x {_SIGN[self.side]} {self.cut:.6g}"
+
+    def search_options(self, counts: ReducedCounts) -> list[Recoding] | None:
+        if self.cut is not None:
+            return None
+        return [Recoding(INDICATOR, side_params(c, self.side)) for c in cut_candidates(counts)]
 
     def learn(self, counts: ReducedCounts) -> Learned:
         if self.cut is not None:
-            return Learned(Recoding(INDICATOR, {"cut": float(self.cut)}))
-        options = [Recoding(INDICATOR, {"cut": c}) for c in cut_candidates(counts)]
+            return Learned(Recoding(INDICATOR, side_params(self.cut, self.side)))
+        options = self.search_options(counts) or []
         if not options:
             raise RecodingError("too few distinct values to place a cut point")
         return Learned(search(options, counts), searched=True)

@@ -9,7 +9,7 @@ from tui.engine.forms.bands import BANDS, BandsCandidate
 from tui.engine.forms.base import Candidate, Kind, MissingFill, Recoding, RecodingError
 from tui.engine.forms.fracpoly import FP1, FP2, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.hinge import HINGE, HingeCandidate
-from tui.engine.forms.indicator import INDICATOR, IndicatorCandidate
+from tui.engine.forms.indicator import BELOW, INDICATOR, IndicatorCandidate
 from tui.engine.forms.linear import LINEAR, LinearCandidate
 from tui.engine.forms.log import LOG, LogCandidate
 from tui.engine.forms.quadratic import QUADRATIC, QuadraticCandidate
@@ -32,8 +32,11 @@ def make_recoding(
     return Recoding(KINDS[key], dict(params or {}), clip, missing)
 
 
-def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Candidate]:
-    """The candidate forms compared for every column, linear first."""
+def default_candidates(
+    groups: int = 4, knots: int = DEFAULT_KNOTS, side: str = BELOW
+) -> list[Candidate]:
+    """The candidate forms compared for every column, linear first; ``side``: which side
+    of its cut the indicator reads 1."""
     return [
         LinearCandidate(),
         LogCandidate(),
@@ -42,7 +45,7 @@ def default_candidates(groups: int = 4, knots: int = DEFAULT_KNOTS) -> list[Cand
         QuadraticCandidate(),
         SplineCandidate(knots),
         HingeCandidate(),
-        IndicatorCandidate(),
+        IndicatorCandidate(side=side),
         BandsCandidate(groups),
     ]
 

@@ -78,6 +78,11 @@ def learn_knots(counts: ReducedCounts, k: int) -> list[float]:
     return [float(v) for v in knots]
 
 
+def tied_knots_note(got: int, asked: int) -> str:
+    """Said wherever a spline's knots are shown when tied quantiles merged some."""
+    return f"{got} knots: {asked} asked, tied quantiles"
+
+
 class SplineKind(Kind):
     key = label = "spline"
 
@@ -146,4 +151,5 @@ class SplineCandidate(Candidate):
 
     def learn(self, counts: ReducedCounts) -> Learned:
         knots = learn_knots(counts, self.knots)
-        return Learned(Recoding(SPLINE, {"knots": knots}))
+        remarks = () if len(knots) == self.knots else (tied_knots_note(len(knots), self.knots),)
+        return Learned(Recoding(SPLINE, {"knots": knots}), remarks=remarks)

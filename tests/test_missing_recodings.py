@@ -64,7 +64,7 @@ def test_indicator_is_named_last_and_counted_as_an_output():
         make_recoding("spline", {"knots": [1.0, 2.0, 3.0]}, None, MissingFill(2.0, True)),
         (0, 4),
     )
-    assert d.outputs == ("k__lin", "k__rcs1", "k__missing")
+    assert d.outputs == ("k__lin", "k__spl1", "k__missing")
     assert d.missing_indicator == "k__missing"
     assert d.recoding.apply(np.array([np.nan])).shape == (1, 3)
     entry = to_document(_log(d))["recodings"][0]

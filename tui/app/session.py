@@ -14,10 +14,15 @@ from tui.app.view_state import ReviewView
 from tui.engine.adjust import Adjustment
 from tui.engine.compare import FormFit
 from tui.engine.scan import ColumnScan, ScanSettings
-from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
+from tui.intake.dataset import (
+    ColumnarDataset,
+    Dataset,
+    file_sha256,
+    open_dataset,
+    require_numeric,
+)
 from tui.intake.profile import ColumnProfile
 from tui.intake.weights import FREQUENCY
-from tui.problems import InputProblem
 from tui.recodings.decisions import (
     KEPT_LINEAR,
     SET_ASIDE,
@@ -288,8 +293,7 @@ def open_session(
     path = Path(log_path) if log_path is not None else default_log_path(data)
     check_log_place(path, data)
     dataset = open_dataset(data, outcome, event, exclude)
-    if not [c for c in dataset.columns if c != weight]:
-        raise InputProblem(f"{data} has no numeric columns to review besides '{outcome}'")
+    require_numeric(dataset, weight)
     sha = file_sha256(data)
     coded = dataset.outcome
     source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)

@@ -34,6 +34,7 @@ from tui.recodings.decisions import (
     default_log_path,
     judged_evidence,
     open_log,
+    take_log,
 )
 from tui.recodings.evidence import DataFingerprint, Evidence
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
@@ -80,6 +81,8 @@ class ReviewSession:
     data_sha256: str | None = None
     """sha256 of the data file reviewed: each decision's evidence names the data it was
     judged on, since a log reused on another extract keeps its first ``source``."""
+    access_notice: str | None = None
+    """Read-only, or a lock taken over: said once when the app opens."""
     view: ReviewView = field(default_factory=ReviewView)
     """The screens' state (list order, typed numbers, draft notes): written by the
     screens only, kept here so every screen of the review sees the same one."""
@@ -286,25 +289,39 @@ def open_session(
     adjust: tuple[str, ...] | list[str] = (),
     weight: str | None = None,
     weight_kind: str = FREQUENCY,
+    read_only: bool = False,
+    take_over: bool = False,
+    analyst: str | None = None,
 ) -> ReviewSession:
-    """Read the data and the log (or start an empty one), and build the covariates and
-    weights every fit carries. Raises InputProblem."""
+    """Lock the log (or open it ``read_only``), read the data and the log (or start an
+    empty one), and build the covariates and weights every fit carries. Raises
+    InputProblem (LogLocked when another review holds the log)."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
     check_log_place(path, data)
-    dataset = open_dataset(data, outcome, event, exclude)
-    require_numeric(dataset, weight)
-    sha = file_sha256(data)
-    coded = dataset.outcome
-    source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
-    log, warning = open_log(path, coded.column, coded.event, source)
+    access = take_log(path, read_only, take_over, analyst)
+    try:
+        dataset = open_dataset(data, outcome, event, exclude)
+        require_numeric(dataset, weight)
+        sha = file_sha256(data)
+        coded = dataset.outcome
+        source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
+        log, warning = open_log(path, coded.column, coded.event, source)
+    except BaseException:
+        if access.lock is not None:
+            access.lock.release()
+        raise
+    book = DecisionBook(log, path, access.read_only, access.lock)
+    if analyst:
+        book.analyst = analyst
     return ReviewSession(
         dataset,
-        DecisionBook(log, path),
+        book,
         settings or ScanSettings(),
         warning,
         adjust=tuple(adjust),
         weight=weight,
         weight_kind=weight_kind if weight else None,
         data_sha256=sha,
+        access_notice=access.notice,
     )

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -26,6 +26,7 @@ from tui.recodings.evidence import (
     Weights,
 )
 from tui.recodings.load import load
+from tui.recodings.lock import LogLock, acquire, lock_path, login_name, read_holder
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 from tui.recodings.save import save
 
@@ -34,6 +35,10 @@ UNDECIDED, KEPT_LINEAR, SET_ASIDE = "undecided", "kept linear", "set aside"
 
 class LogNotSaved(Exception):
     """The log file could not be written; the decision was not recorded."""
+
+
+class ReadOnlyLog(LogNotSaved):
+    """The review was opened read-only: it browses, and records nothing."""
 
 
 def default_log_path(data: Path) -> Path:
@@ -100,6 +105,29 @@ def open_log(
 
 
 @dataclass(frozen=True)
+class Access:
+    """How a review holds its log: the lock (None when read-only), why it may not
+    write (None when it may), and a notice for the analyst (a lock taken over, say)."""
+
+    lock: LogLock | None
+    read_only: str | None
+    notice: str | None
+
+
+def take_log(
+    path: Path, read_only: bool = False, take_over: bool = False, analyst: str | None = None
+) -> Access:
+    """Lock the log at ``path`` for this review, or open it read-only (``read_only``);
+    raises LogLocked (an InputProblem) when another review holds it."""
+    if read_only:
+        holder = read_holder(lock_path(path))
+        held = f"; held by {holder.describe()}" if holder else ""
+        return Access(None, "opened with --read-only", f"read-only: no decisions{held}")
+    lock, notice = acquire(path, take_over, analyst)
+    return Access(lock, None, notice)
+
+
+@dataclass(frozen=True)
 class Design:
     """The covariates and weights a row was fitted with, as the evidence names them."""
 
@@ -162,6 +190,19 @@ class DecisionBook:
     """The decisions as saved on disk."""
     path: Path
     """Where the log is saved."""
+    read_only: str | None = None
+    """Why nothing may be recorded (another review holds the lock, or ``--read-only``);
+    None when this review may write."""
+    lock: LogLock | None = None
+    """The log's lock, while this review holds it."""
+    analyst: str = field(default_factory=login_name)
+    """Who decides: written as ``decided_by`` with each decision."""
+
+    def close(self) -> None:
+        """End the review's hold on the log (removes its lock file)."""
+        if self.lock is not None:
+            self.lock.release()
+            self.lock = None
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
@@ -234,6 +275,8 @@ class DecisionBook:
         return False
 
     def _commit(self, log: RecodingLog) -> None:
+        if self.read_only is not None:
+            raise ReadOnlyLog(f"read-only review ({self.read_only}): nothing recorded")
         try:
             save(log, self.path)
         except InputProblem as problem:  # the log module's one error type (names the file)

@@ -187,3 +187,14 @@ def test_read_only_app_refuses_decision_keys_with_a_notice(folder):
             assert not (folder / LOG).exists()
 
     asyncio.run(go())
+
+
+def test_a_second_session_of_this_process_takes_the_lock_without_a_notice(tmp_path):
+    log = tmp_path / "a.json"
+    first, _ = acquire(log)
+    second, notice = acquire(log)
+    assert notice is None and read_holder(lock_path(log)) == second.holder
+    first.release()  # no longer its lock: left in place
+    assert lock_path(log).exists()
+    second.release()
+    assert not lock_path(log).exists()

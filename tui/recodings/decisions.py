@@ -13,6 +13,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+from tui import __version__
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
 from tui.engine.scan import ColumnScan
@@ -179,6 +180,7 @@ def judged_evidence(
         adjustment=design.words,
         weights=Weights(design.weight, design.weight_kind),
         data=data,
+        version=__version__,
     )
 
 
@@ -240,14 +242,20 @@ class DecisionBook:
         of the log's other outputs) and save the log."""
         taken = source_columns | self.log.without(column).output_names()
         decision = Decision.make(
-            column, recoding, training_range, note=note, evidence=evidence, taken=taken
+            column,
+            recoding,
+            training_range,
+            note=note,
+            evidence=evidence,
+            taken=taken,
+            decided_by=self.analyst,
         )
         self._commit(self.log.with_decision(decision))
         return decision
 
     def set_aside(self, column: str, note: str) -> SetAside:
         """Record that the column is not to be used, and save the log."""
-        entry = SetAside(column, note=note)
+        entry = SetAside(column, note=note, decided_by=self.analyst)
         self._commit(self.log.with_set_aside(entry))
         return entry
 

@@ -37,8 +37,10 @@ KEYS = (
     "weight",
     "weight_kind",
     "data",
+    "bendwise_version",
 )
-"""Every evidence key this version writes."""
+"""Every evidence key this version writes (``bendwise_version`` came after the others:
+older evidence lacks it)."""
 
 
 @dataclass(frozen=True)
@@ -126,6 +128,9 @@ class Evidence(Mapping[str, Any]):
     """Row weights of the fits."""
     data: DataFingerprint | None = None
     """The data the decision was judged on; None when not recorded."""
+    version: str | None = None
+    """The bendwise version that made the decision (key ``bendwise_version``); None when
+    not recorded, as in logs of versions before it was kept."""
     recorded: frozenset[str] = frozenset(KEYS)
     """The keys the log entry holds (all of ``KEYS`` for evidence bendwise writes now)."""
     extra: Mapping[str, Any] = field(default_factory=dict)
@@ -160,6 +165,7 @@ class Evidence(Mapping[str, Any]):
             "weight": w.column,
             "weight_kind": w.kind,
             "data": data,
+            "bendwise_version": self.version,
         }
         return {**{k: v for k, v in every.items() if k in self.recorded}, **self.extra}
 
@@ -195,6 +201,7 @@ class Evidence(Mapping[str, Any]):
             adjustment=read.text("adjustment"),
             weights=Weights(read.text("weight"), read.text("weight_kind")),
             data=read.fingerprint("data"),
+            version=read.text("bendwise_version"),
             recorded=frozenset(k for k in KEYS if k in document),
             extra={k: v for k, v in document.items() if k not in KEYS},
         )

@@ -146,9 +146,10 @@ def acquire(
                 raise LogLocked(target, None, f"remove {path} or add --take-over")
             notice = f"took over an unreadable lock file {path}"
         else:
-            notice = (
-                f"took over the lock of {found.describe()}: {_why_free(target, found, take_over)}"
-            )
+            why = _why_free(target, found, take_over)
+            # A session of this same process (tests, a script) is over: said without a word.
+            taken = f"took over the lock of {found.describe()}: {why}"
+            notice = None if why is _SAME_PROCESS else taken
         _remove_if_still(path, found)
     raise LogLocked(target, read_holder(path), "try again in a moment")
 

@@ -307,21 +307,21 @@ def open_session(
         coded = dataset.outcome
         source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
         log, warning = open_log(path, coded.column, coded.event, source)
+        book = DecisionBook(log, path, access.read_only, access.lock)
+        if analyst:
+            book.analyst = analyst
+        return ReviewSession(  # builds the covariates and weights: may refuse them
+            dataset,
+            book,
+            settings or ScanSettings(),
+            warning,
+            adjust=tuple(adjust),
+            weight=weight,
+            weight_kind=weight_kind if weight else None,
+            data_sha256=sha,
+            access_notice=access.notice,
+        )
     except BaseException:
         if access.lock is not None:
             access.lock.release()
         raise
-    book = DecisionBook(log, path, access.read_only, access.lock)
-    if analyst:
-        book.analyst = analyst
-    return ReviewSession(
-        dataset,
-        book,
-        settings or ScanSettings(),
-        warning,
-        adjust=tuple(adjust),
-        weight=weight,
-        weight_kind=weight_kind if weight else None,
-        data_sha256=sha,
-        access_notice=access.notice,
-    )

@@ -88,11 +88,19 @@ def every_kind_log() -> RecodingLog:
             recoding,
             training_range,
             note=f"chosen for the wound-infection model, step {i + 1}",
-            evidence={"delta_aic": -3.5 - i, "df": len(recoding.suffixes()), "groups": 4},
+            evidence={
+                "delta_aic": -3.5 - i,
+                "df": len(recoding.suffixes()),
+                "groups": 4,
+                "bendwise_version": __version__,
+            },
             taken=log.output_names(),
+            decided_by=None if i == 0 else "analyst-1",  # the first as an older log has it
         )
         log = log.with_decision(_at(decision))
-    log = log.with_set_aside(SetAside("record_id", "identifier, not a predictor", WHEN))
+    log = log.with_set_aside(
+        SetAside("record_id", "identifier, not a predictor", WHEN, decided_by="analyst-1")
+    )
     return log.with_set_aside(SetAside("antibiotic_dose_g", "the same in every row", WHEN))
 
 

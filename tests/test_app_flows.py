@@ -581,6 +581,7 @@ def test_a_log_written_for_other_data_is_flagged(folder: Path) -> None:
 def test_a_failed_save_says_so_and_records_nothing(folder: Path) -> None:
     (folder / "logs").mkdir()
     session = open_session(folder / "fleet.csv", OUTCOME, log_path=folder / "logs" / "x.json")
+    session.book.close()  # drop the lock file, so that the folder can go
     (folder / "logs").rmdir()  # the folder vanishes after the start
 
     async def go() -> None:

@@ -39,8 +39,9 @@ def fresh_app(folder: Path) -> ReviewApp:
 
 
 def decided_app(folder: Path) -> ReviewApp:
-    """An app restarted on a log that holds two decisions made at a fixed time."""
-    session = open_session(folder / "fleet.csv", OUTCOME, log_path=LOG)
+    """An app restarted on a log that holds two decisions made at a fixed time by a fixed
+    analyst."""
+    session = open_session(folder / "fleet.csv", OUTCOME, log_path=LOG, analyst="analyst-1")
     fits = FitCache(session.dataset, session.settings.max_levels).fits(FitRequest("route_km", 4, 4))
     session.accept("route_km", fits.table.row("quadratic"), 4, 4)
     session.set_note("route_km", "short and long routes both run late")
@@ -60,7 +61,12 @@ def adjusted_app(folder: Path) -> ReviewApp:
     (quadratic) and the list re-scored in the working model."""
     write_weighted_fleet(folder)
     session = open_session(
-        folder / "fleet_w.csv", OUTCOME, log_path=LOG, adjust=["stops", "region"], weight=WEIGHT
+        folder / "fleet_w.csv",
+        OUTCOME,
+        log_path=LOG,
+        adjust=["stops", "region"],
+        weight=WEIGHT,
+        analyst="analyst-1",
     )
     cache = FitCache(session.dataset, session.settings.max_levels, session.adjustment)
     fits = cache.fits(FitRequest("route_km", 4, 4, basis=session.base))

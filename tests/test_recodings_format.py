@@ -47,8 +47,10 @@ def test_file_is_indented_with_stable_key_order():
     ]  # fmt: skip
     entry = document["recodings"][8]
     assert list(entry) == [
-        "column", "kind", "params", "clip", "outputs", "range", "note", "decided_at", "evidence"
+        "column", "kind", "params", "clip", "outputs", "range", "note", "decided_at",
+        "decided_by", "evidence"
     ]  # fmt: skip
+    assert "decided_by" not in document["recodings"][0]  # not recorded: not written
     assert document["format"] == "bendwise-recodings" and document["format_version"] == 1
     # Knot lists stay on one line so that a moved knot is a one-line change.
     assert '"knots": [133.0, 138.0, 141.0, 146.0]' in recodings.dumps(every_kind_log())

@@ -39,7 +39,8 @@ def _sample_log() -> RecodingLog:
     quadratic, linear = make_recoding("quadratic"), make_recoding("linear")
     decisions = [
         Decision.make("bmi", quadratic, rng_of("bmi"), "U-shape, lowest near 27",
-                      {"score": 79.6, "groups": 4, "knots": 4}),
+                      {"score": 79.6, "groups": 4, "knots": 4, "bendwise_version": "0.1.0"},
+                      decided_by="analyst-1"),
         Decision.make("hba1c_pct", make_recoding("indicator", {"cut": 6.5}), rng_of("hba1c_pct"),
                       "diagnostic threshold", {"groups": 10}),
         Decision.make("creatinine_umol_l", spline, rng_of("creatinine_umol_l"), "", {"knots": 4}),

@@ -13,3 +13,15 @@ def closest_names(name: str, choices: Iterable[str], limit: int = 3) -> list[str
         by_lower.setdefault(str(choice).lower(), str(choice))
     found = difflib.get_close_matches(name.lower(), list(by_lower), n=limit, cutoff=0.6)
     return [by_lower[key] for key in found]
+
+
+SHOWN_CHARS = 60
+"""Longest name a message repeats in full; longer ones are cut (a name can be any length)."""
+
+
+def shown_name(name: str) -> str:
+    """``name`` quoted for a message, cut to ``SHOWN_CHARS`` with its length when longer."""
+    text = str(name)
+    if len(text) <= SHOWN_CHARS:
+        return f"'{text}'"
+    return f"'{text[:SHOWN_CHARS]}…' ({len(text)} characters)"

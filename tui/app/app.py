@@ -111,6 +111,8 @@ class ReviewApp(App[None]):
 
     def on_mount(self) -> None:
         self.push_screen(self.triage)
+        if self.session.access_notice:
+            tell(self, self.session.access_notice, severity="warning", timeout=8)
         if self.session.source_warning:
             # Short: a long toast covers the list. The full text stays on the warning line.
             tell(self, "log written for other data: see the ! line", severity="warning", timeout=6)

@@ -5,6 +5,8 @@ from __future__ import annotations
 from textual.dom import DOMNode
 from textual.notifications import SeverityLevel
 
+from tui.recodings.decisions import ReadOnlyLog
+
 
 def tell(
     node: DOMNode, text: str, *, severity: SeverityLevel = "information", timeout: float = 4.0
@@ -15,4 +17,7 @@ def tell(
 
 def not_saved(node: DOMNode, problem: Exception) -> None:
     """The log could not be written: say so plainly and for long enough to read."""
+    if isinstance(problem, ReadOnlyLog):  # a refusal by design, not a failure
+        tell(node, str(problem), severity="warning", timeout=6.0)
+        return
     tell(node, f"NOT SAVED: {problem}", severity="error", timeout=12.0)

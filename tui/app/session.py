@@ -24,10 +24,15 @@ from tui.engine.missing_group import (
 )
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.engine.stability import SelectionShares
-from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
+from tui.intake.dataset import (
+    ColumnarDataset,
+    Dataset,
+    file_sha256,
+    open_dataset,
+    require_numeric,
+)
 from tui.intake.profile import ColumnProfile
 from tui.intake.weights import FREQUENCY
-from tui.problems import InputProblem
 from tui.recodings.decisions import (
     KEPT_LINEAR,
     RECODED,
@@ -41,6 +46,7 @@ from tui.recodings.decisions import (
     default_log_path,
     judged_evidence,
     open_log,
+    take_log,
     with_selection,
 )
 from tui.recodings.evidence import DataFingerprint, Evidence
@@ -89,6 +95,8 @@ class ReviewSession:
     data_sha256: str | None = None
     """sha256 of the data file reviewed: each decision's evidence names the data it was
     judged on, since a log reused on another extract keeps its first ``source``."""
+    access_notice: str | None = None
+    """Read-only, or a lock taken over: said once when the app opens."""
     view: ReviewView = field(default_factory=ReviewView)
     """The screens' state (list order, typed numbers, draft notes): written by the
     screens only, kept here so every screen of the review sees the same one."""
@@ -338,26 +346,39 @@ def open_session(
     adjust: tuple[str, ...] | list[str] = (),
     weight: str | None = None,
     weight_kind: str = FREQUENCY,
+    read_only: bool = False,
+    take_over: bool = False,
+    analyst: str | None = None,
 ) -> ReviewSession:
-    """Read the data and the log (or start an empty one), and build the covariates and
-    weights every fit carries. Raises InputProblem."""
+    """Lock the log (or open it ``read_only``), read the data and the log (or start an
+    empty one), and build the covariates and weights every fit carries. Raises
+    InputProblem (LogLocked when another review holds the log)."""
     data = Path(data)
     path = Path(log_path) if log_path is not None else default_log_path(data)
     check_log_place(path, data)
-    dataset = open_dataset(data, outcome, event, exclude)
-    if not [c for c in dataset.columns if c != weight]:
-        raise InputProblem(f"{data} has no numeric columns to review besides '{outcome}'")
-    sha = file_sha256(data)
-    coded = dataset.outcome
-    source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
-    log, warning = open_log(path, coded.column, coded.event, source)
-    return ReviewSession(
-        dataset,
-        DecisionBook(log, path),
-        settings or ScanSettings(),
-        warning,
-        adjust=tuple(adjust),
-        weight=weight,
-        weight_kind=weight_kind if weight else None,
-        data_sha256=sha,
-    )
+    access = take_log(path, read_only, take_over, analyst)
+    try:
+        dataset = open_dataset(data, outcome, event, exclude)
+        require_numeric(dataset, weight)
+        sha = file_sha256(data)
+        coded = dataset.outcome
+        source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
+        log, warning = open_log(path, coded.column, coded.event, source)
+        book = DecisionBook(log, path, access.read_only, access.lock)
+        if analyst:
+            book.analyst = analyst
+        return ReviewSession(  # builds the covariates and weights: may refuse them
+            dataset,
+            book,
+            settings or ScanSettings(),
+            warning,
+            adjust=tuple(adjust),
+            weight=weight,
+            weight_kind=weight_kind if weight else None,
+            data_sha256=sha,
+            access_notice=access.notice,
+        )
+    except BaseException:
+        if access.lock is not None:
+            access.lock.release()
+        raise

@@ -9,7 +9,7 @@ from pathlib import Path
 import pandas as pd
 
 from tui.intake.readers import read_table
-from tui.paths import same_file
+from tui.paths import check_output
 from tui.problems import InputProblem
 from tui.recodings.load import load
 from tui.recodings.replay import apply_to_frame, check_columns, range_excess
@@ -71,13 +71,8 @@ def _apply_renames(frame: pd.DataFrame, renames: list[tuple[str, str]], data: Pa
 def run(args: argparse.Namespace) -> int:
     out, data, log_path = Path(args.output), Path(args.data), Path(args.log)
     # Every check that can refuse comes before the first byte is written.
-    if same_file(out, data):
-        raise InputProblem(f"--output {out} is the data file; replay never writes over its input")
-    if same_file(out, log_path):
-        raise InputProblem(f"--output {out} is the recoding log; choose another file")
+    check_output(out, [("data file", data), ("recoding log", log_path)], args.force)
     check_writable(out)
-    if out.exists() and not args.force:
-        raise InputProblem(f"--output {out} exists; add --force to replace it")
     log = load(log_path)
     frame = _apply_renames(read_table(data), args.rename, data)
     check_columns(log, frame, str(data))

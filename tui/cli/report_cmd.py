@@ -6,10 +6,9 @@ import argparse
 from pathlib import Path
 
 from tui import recodings
-from tui.atomic import atomic_write_text
 from tui.intake.dataset import open_dataset
 from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
-from tui.paths import same_file
+from tui.paths import check_output, write_output
 from tui.problems import InputProblem
 from tui.report import build_report, render_html, render_markdown
 from tui.report.cells import DEFAULT_MIN_CELL
@@ -27,6 +26,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     parser.add_argument("log", metavar="LOG", help="recoding log (JSON)")
     parser.add_argument("--data", required=True, metavar="DATA", help="data the log was made on")
     parser.add_argument("--output", required=True, metavar="FILE", help="report file: .md or .html")
+    parser.add_argument("--force", action="store_true", help="replace FILE if it exists")
     parser.add_argument(
         "--min-cell",
         type=int,
@@ -56,13 +56,11 @@ def run(args: argparse.Namespace) -> int:
     render = RENDERERS.get(target.suffix.lower())
     if render is None:
         raise InputProblem(f"--output must end in .md or .html, not {target.name!r}")
-    for source in (args.log, args.data):
-        if same_file(target, source):
-            raise InputProblem(f"--output {args.output} would overwrite {source}")
+    check_output(target, [("recoding log", args.log), ("data file", args.data)], args.force)
     log = recodings.load(args.log)
     data = open_dataset(args.data, log.outcome_column, event_option(log.event))
     report = build_report(
         log, data, min_cell=args.min_cell, weight=args.weight, weight_kind=args.weight_kind
     )
-    atomic_write_text(target, render(report))
+    write_output(target, render(report))
     return 0

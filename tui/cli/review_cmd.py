@@ -24,6 +24,21 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         metavar="LOG",
         help="recoding log to read and write (default: <data stem>.recodings.json here)",
     )
+    parser.add_argument(
+        "--read-only",
+        action="store_true",
+        help="browse without recording decisions (and without taking the log's lock)",
+    )
+    parser.add_argument(
+        "--take-over",
+        action="store_true",
+        help="take the log's lock from a review on another machine that has ended",
+    )
+    parser.add_argument(
+        "--analyst",
+        metavar="NAME",
+        help="name recorded as decided_by (default: your login name)",
+    )
     parser.set_defaults(run=run)
 
 
@@ -43,6 +58,12 @@ def run(args: argparse.Namespace) -> int:
         adjust=args.adjust,
         weight=args.weight,
         weight_kind=args.weight_kind,
+        read_only=args.read_only,
+        take_over=args.take_over,
+        analyst=args.analyst,
     )
-    ReviewApp(session).run()
+    try:
+        ReviewApp(session).run()
+    finally:
+        session.book.close()  # the lock goes; every decision is already saved
     return 0

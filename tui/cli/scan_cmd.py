@@ -7,7 +7,6 @@ import shutil
 import sys
 
 from tui import recodings
-from tui.atomic import atomic_write_text
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import ELIDE_HELP, as_csv, as_json, as_table
@@ -16,9 +15,8 @@ from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
 from tui.engine.two_pass import TwoPassScan
-from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset
-from tui.paths import same_file
-from tui.problems import InputProblem
+from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset, require_numeric
+from tui.paths import check_output, write_output
 
 STAGES = {"score": "scores", "forms": "forms"}
 """The two passes and the word each one's bar shows."""
@@ -38,6 +36,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         "--format", choices=("table", "csv", "json"), default="table", help="output format"
     )
     parser.add_argument("--output", metavar="FILE", help="write here instead of stdout")
+    parser.add_argument("--force", action="store_true", help="replace FILE if it exists")
     parser.set_defaults(run=run)
 
 
@@ -89,9 +88,11 @@ def _adjusted(
 
 
 def run(args: argparse.Namespace) -> int:
-    if args.output and same_file(args.output, args.data):
-        raise InputProblem(f"--output {args.output} would overwrite the data file")
+    if args.output:
+        inputs = [("data file", args.data)] + ([("recoding log", args.log)] if args.log else [])
+        check_output(args.output, inputs, args.force)
     data = open_dataset(args.data, args.outcome, args.event, args.exclude)
+    require_numeric(data, args.weight)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
     adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
     settings = ScanSettings(groups=args.groups, knots=args.knots)
@@ -115,7 +116,7 @@ def run(args: argparse.Namespace) -> int:
         )
         text = as_table(ranked, adjust.describe() if adjust else "", width)
     if args.output:
-        atomic_write_text(args.output, text)
+        write_output(args.output, text)
     else:
         sys.stdout.write(text)
     return 0

@@ -21,6 +21,8 @@ import pandas as pd
 from tui.intake.outcome import CodedOutcome, code_outcome
 from tui.intake.profile import ColumnProfile, numeric_values, profile_column, profile_frame
 from tui.intake.readers import list_columns, read_column, read_table
+from tui.names import shown_name
+from tui.problems import InputProblem
 
 COLUMNAR = frozenset({".parquet", ".feather"})
 """Extensions opened one column at a time."""
@@ -163,6 +165,29 @@ def open_dataset(
     if path.suffix.lower() in COLUMNAR:
         return open_columnar(path, outcome, event, exclude)
     return open_whole(path, outcome, event, exclude)
+
+
+def require_numeric(data: Dataset | ColumnarDataset, also_not: str | None = None) -> None:
+    """Raise InputProblem when no numeric column is left to scan (besides the outcome
+    and the column ``also_not``, e.g. the weight); the message lists the columns found,
+    text columns as such."""
+    if [c for c in data.columns if c != also_not]:
+        return
+    found = [f"{shown_name(p.name)} (text)" for p in data.skipped]
+    found += [f"{shown_name(c)} (excluded)" for c in data.excluded]
+    if also_not in data.columns:
+        found.append(f"{shown_name(also_not)} (the weight)")
+    listed = ", ".join(found[:_LISTED]) + (
+        f" and {len(found) - _LISTED} more" if len(found) > _LISTED else ""
+    )
+    outcome = shown_name(data.outcome.column)
+    raise InputProblem(
+        f"{data.path.name} has no numeric column to scan besides the outcome {outcome}; "
+        f"columns found: {listed or 'none'}"
+    )
+
+
+_LISTED = 20  # columns a message names; the rest are counted
 
 
 def open_whole(

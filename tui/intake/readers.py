@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 from pandas.api.types import infer_dtype
 
+from tui.intake.header import check_names, text_header
 from tui.names import closest_names
 from tui.problems import InputProblem
 
@@ -68,11 +69,16 @@ def read_table(path: PathLike, columns: list[str] | None = None) -> pd.DataFrame
 def list_columns(path: PathLike) -> list[str]:
     """Column names of the file, in file order; Parquet and Feather read only their schema."""
     file, ext = _checked(path)
+    names = _stored_names(file, ext)
+    check_names(file, names)
+    return names
+
+
+def _stored_names(file: Path, ext: str) -> list[str]:
     kind = _KIND[ext]
     if ext in _SEPARATORS or ext == ".txt":
         sep = _separator(file, ext)
-        header = _attempt(file, kind, lambda: _csv(file, sep, engine="c", nrows=0))
-        return [str(name) for name in header.columns]
+        return _attempt(file, kind, lambda: text_header(file, sep))
     if ext == ".parquet":
         return _attempt(file, kind, lambda: _parquet_names(file))
     if ext == ".feather":
@@ -217,7 +223,9 @@ def _read(file: Path, ext: str, columns: list[str] | None) -> pd.DataFrame:
     """Dispatch on the extension, then tidy dtypes so all formats come back alike."""
     kind = _KIND[ext]
     if ext in _SEPARATORS or ext == ".txt":
-        frame = _read_text(file, _separator(file, ext), columns, kind)
+        sep = _separator(file, ext)
+        check_names(file, _attempt(file, kind, lambda: text_header(file, sep)))
+        frame = _read_text(file, sep, columns, kind)
     elif ext == ".parquet":
         frame = _attempt(file, kind, lambda: pd.read_parquet(file, columns=columns))
     elif ext == ".feather":
@@ -238,6 +246,7 @@ def _read(file: Path, ext: str, columns: list[str] | None) -> pd.DataFrame:
     else:
         reader = _pyreadstat()
         frame, _ = _attempt(file, kind, lambda: reader.read_sav(str(file), usecols=columns))
+    check_names(file, [str(name) for name in frame.columns])
     return _tidy(frame)
 
 

@@ -52,7 +52,8 @@ def to_document(log: RecodingLog) -> dict[str, Any]:
         },
         "recodings": [_decision_entry(d, i) for i, d in enumerate(log.decisions)],
         "set_aside": [
-            {"column": s.column, "note": s.note, "decided_at": s.decided_at} for s in log.set_aside
+            {"column": s.column, "note": s.note, "decided_at": s.decided_at, **_by(s.decided_by)}
+            for s in log.set_aside
         ],
     }
 
@@ -78,11 +79,17 @@ def _decision_entry(decision: Decision, index: int) -> dict[str, Any]:
     entry.update(
         note=decision.note,
         decided_at=decision.decided_at,
+        **_by(decision.decided_by),
         # Evidence is a record of what was shown; a number that could not be computed
         # (NaN) is written as null rather than refused.
         evidence=plain(decision.evidence.to_json(), f"{where}.evidence", missing_as_null=True),
     )
     return entry
+
+
+def _by(who: str | None) -> dict[str, str]:
+    """``decided_by`` when recorded; a log that did not record it is written without it."""
+    return {} if who is None else {"decided_by": who}
 
 
 def plain(value: Any, where: str, missing_as_null: bool = False) -> Any:
@@ -119,6 +126,7 @@ def from_document(document: Mapping[str, Any]) -> RecodingLog:
             column=item["column"],
             note=item["note"],
             decided_at=_timestamp(item["decided_at"], f"set_aside[{i}].decided_at"),
+            decided_by=item.get("decided_by"),
         )
         for i, item in enumerate(document.get("set_aside", []))
     )
@@ -174,6 +182,7 @@ def _decision(item: Mapping[str, Any], index: int) -> Decision:
         deciles=deciles,
         note=item["note"],
         decided_at=_timestamp(item["decided_at"], f"{where}.decided_at"),
+        decided_by=item.get("decided_by"),
         evidence=Evidence.from_json(item["evidence"], f"{where}.evidence"),
     )
 

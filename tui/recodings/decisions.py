@@ -14,6 +14,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
+from tui import __version__
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import MissingFill, Recoding
 from tui.engine.scan import ColumnScan
@@ -29,6 +30,7 @@ from tui.recodings.evidence import (
     Weights,
 )
 from tui.recodings.load import load
+from tui.recodings.lock import LogLock, acquire, lock_path, login_name, read_holder
 from tui.recodings.model import Decision, RecodingLog, SetAside, SourceInfo
 from tui.recodings.save import save
 
@@ -76,6 +78,10 @@ def decided_counts(log: RecodingLog, columns: Iterable[str] | None = None) -> De
 
 class LogNotSaved(Exception):
     """The log file could not be written; the decision was not recorded."""
+
+
+class ReadOnlyLog(LogNotSaved):
+    """The review was opened read-only: it browses, and records nothing."""
 
 
 def default_log_path(data: Path) -> Path:
@@ -142,6 +148,29 @@ def open_log(
 
 
 @dataclass(frozen=True)
+class Access:
+    """How a review holds its log: the lock (None when read-only), why it may not
+    write (None when it may), and a notice for the analyst (a lock taken over, say)."""
+
+    lock: LogLock | None
+    read_only: str | None
+    notice: str | None
+
+
+def take_log(
+    path: Path, read_only: bool = False, take_over: bool = False, analyst: str | None = None
+) -> Access:
+    """Lock the log at ``path`` for this review, or open it read-only (``read_only``);
+    raises LogLocked (an InputProblem) when another review holds it."""
+    if read_only:
+        holder = read_holder(lock_path(path))
+        held = f"; held by {holder.describe()}" if holder else ""
+        return Access(None, "opened with --read-only", f"read-only: no decisions{held}")
+    lock, notice = acquire(path, take_over, analyst)
+    return Access(lock, None, notice)
+
+
+@dataclass(frozen=True)
 class Design:
     """The covariates and weights a row was fitted with, as the evidence names them."""
 
@@ -193,6 +222,7 @@ def judged_evidence(
         adjustment=design.words,
         weights=Weights(design.weight, design.weight_kind),
         data=data,
+        version=__version__,
     )
 
 
@@ -217,6 +247,19 @@ class DecisionBook:
     """Each earlier log of this review with the change made from it, oldest first: ``undo``
     walks back through them (the review's own changes only, never what the file held
     before it started)."""
+    read_only: str | None = None
+    """Why nothing may be recorded (another review holds the lock, or ``--read-only``);
+    None when this review may write."""
+    lock: LogLock | None = None
+    """The log's lock, while this review holds it."""
+    analyst: str = field(default_factory=login_name)
+    """Who decides: written as ``decided_by`` with each decision."""
+
+    def close(self) -> None:
+        """End the review's hold on the log (removes its lock file)."""
+        if self.lock is not None:
+            self.lock.release()
+            self.lock = None
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
@@ -263,6 +306,7 @@ class DecisionBook:
             evidence=evidence,
             taken=taken,
             deciles=deciles,
+            decided_by=self.analyst,
         )
         what = KEPT_LINEAR if is_kept_linear(recoding) else recoding.describe()
         self._commit(self.log.with_decision(decision), f"{column} {what}")
@@ -292,7 +336,7 @@ class DecisionBook:
 
     def set_aside(self, column: str, note: str) -> SetAside:
         """Record that the column is not to be used, and save the log."""
-        entry = SetAside(column, note=note)
+        entry = SetAside(column, note=note, decided_by=self.analyst)
         self._commit(self.log.with_set_aside(entry), f"{column} {SET_ASIDE}")
         return entry
 
@@ -340,6 +384,8 @@ class DecisionBook:
         return what
 
     def _commit(self, log: RecodingLog, what: str) -> None:
+        if self.read_only is not None:
+            raise ReadOnlyLog(f"read-only review ({self.read_only}): nothing recorded")
         self._save(log)
         self.history.append((self.log, what))
         self.log = log

@@ -38,8 +38,10 @@ KEYS = (
     "weight_kind",
     "data",
     "selection",
+    "bendwise_version",
 )
-"""Every evidence key this version writes."""
+"""Every evidence key this version writes (``bendwise_version`` came after the others:
+older evidence lacks it)."""
 
 
 @dataclass(frozen=True)
@@ -148,6 +150,9 @@ class Evidence(Mapping[str, Any]):
     """Bootstrap selection shares shown when the form was accepted; None when they were
     not computed (adjusted checks, accepted before they were in) or not recorded (logs
     written before this key existed)."""
+    version: str | None = None
+    """The bendwise version that made the decision (key ``bendwise_version``); None when
+    not recorded, as in logs of versions before it was kept."""
     recorded: frozenset[str] = frozenset(KEYS)
     """The keys the log entry holds (all of ``KEYS`` for evidence bendwise writes now)."""
     extra: Mapping[str, Any] = field(default_factory=dict)
@@ -183,6 +188,7 @@ class Evidence(Mapping[str, Any]):
             "weight_kind": w.kind,
             "data": data,
             "selection": None if self.selection is None else self.selection.to_json(),
+            "bendwise_version": self.version,
         }
         return {**{k: v for k, v in every.items() if k in self.recorded}, **self.extra}
 
@@ -219,6 +225,7 @@ class Evidence(Mapping[str, Any]):
             weights=Weights(read.text("weight"), read.text("weight_kind")),
             data=read.fingerprint("data"),
             selection=read.selection("selection"),
+            version=read.text("bendwise_version"),
             recorded=frozenset(k for k in KEYS if k in document),
             extra={k: v for k, v in document.items() if k not in KEYS},
         )

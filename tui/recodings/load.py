@@ -33,6 +33,11 @@ _JSON_TYPES = {
 }
 
 
+MAX_LOG_BYTES = 64 << 20
+"""Largest log read: thousands of decisions with their evidence take a few megabytes, so a
+bigger file is not a recoding log, and reading it whole would only stall the command."""
+
+
 def load(path: str | os.PathLike[str]) -> RecodingLog:
     """Read and check the log at ``path``; raises LogProblem naming the file and entry."""
     file = Path(path)
@@ -41,6 +46,12 @@ def load(path: str | os.PathLike[str]) -> RecodingLog:
     if file.is_dir():
         raise LogProblem(str(file), "", "is a directory, not a recoding log")
     try:
+        size = file.stat().st_size
+        if size > MAX_LOG_BYTES:
+            megabytes = f"{size / 2**20:.0f} MB"
+            raise LogProblem(
+                str(file), "", f"is {megabytes}; a recoding log is at most {MAX_LOG_BYTES >> 20} MB"
+            )
         raw = file.read_bytes()
     except OSError as exc:
         raise LogProblem(str(file), "", f"cannot read: {exc.strerror or exc}") from None

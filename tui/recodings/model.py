@@ -39,6 +39,8 @@ class Decision:
     """The analyst's reason."""
     decided_at: str = field(default_factory=now_iso)
     """When the decision was made (ISO 8601)."""
+    decided_by: str | None = None
+    """Who made it (login name or ``--analyst``); None in logs that did not record it."""
     evidence: Evidence = NOTHING
     """What was shown when it was accepted, and the design it was judged in."""
 
@@ -58,6 +60,7 @@ class Decision:
         evidence: Evidence | Mapping[str, Any] | None = None,
         taken: set[str] | frozenset[str] = frozenset(),
         deciles: tuple[float, ...] | None = None,
+        decided_by: str | None = None,
     ) -> Decision:
         """A decision whose output names avoid the names in ``taken``; ``evidence`` given
         as JSON values is read as a log entry's would be (raises EntryProblem)."""
@@ -72,6 +75,7 @@ class Decision:
             range=(float(training_range[0]), float(training_range[1])),
             deciles=None if deciles is None else tuple(float(v) for v in deciles),
             note=note,
+            decided_by=decided_by,
             evidence=evidence,
         )
 
@@ -86,6 +90,8 @@ class SetAside:
     """Why."""
     decided_at: str = field(default_factory=now_iso)
     """When."""
+    decided_by: str | None = None
+    """Who (None in logs that did not record it)."""
 
 
 @dataclass(frozen=True)

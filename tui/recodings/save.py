@@ -12,7 +12,7 @@ import os
 from pathlib import Path
 from typing import Any
 
-from tui.atomic import atomic_write_text
+from tui.paths import write_output
 from tui.problems import InputProblem
 from tui.recodings.codec import to_document
 from tui.recodings.errors import LogProblem
@@ -38,10 +38,7 @@ def save(log: RecodingLog, path: str | os.PathLike[str]) -> None:
     text = dumps(log, str(target))
     if target.is_dir():
         raise InputProblem(f"cannot write {target}: it is a directory")
-    try:
-        atomic_write_text(target, text)
-    except OSError as exc:
-        raise InputProblem(f"cannot write {target}: {exc.strerror or exc}") from None
+    write_output(target, text)
 
 
 def render(value: Any, depth: int = 0) -> str:

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from tui.atomic import atomic_write_bytes
+from tui.paths import check_output, write_output
 from tui.problems import InputProblem
 
 
@@ -48,12 +48,7 @@ def check_writable(path: str | os.PathLike[str]) -> Path:
         raise InputProblem(
             f"cannot write {target}: {what}; output formats: {', '.join(sorted(WRITERS))}"
         )
-    folder = target.parent
-    if not folder.is_dir():
-        raise InputProblem(f"cannot write {target}: folder {folder} does not exist")
-    if target.is_dir():
-        raise InputProblem(f"cannot write {target}: it is a directory")
-    return target
+    return check_output(target, (), force=True)  # the folder; replacing is the caller's call
 
 
 def write_table(frame: pd.DataFrame, path: str | os.PathLike[str]) -> None:
@@ -63,7 +58,4 @@ def write_table(frame: pd.DataFrame, path: str | os.PathLike[str]) -> None:
         data = WRITERS[target.suffix.lower()](frame)
     except (ValueError, TypeError) as exc:  # e.g. a column type the format cannot hold
         raise InputProblem(f"cannot write {target}: {exc}") from None
-    try:
-        atomic_write_bytes(target, data)
-    except OSError as exc:
-        raise InputProblem(f"cannot write {target}: {exc.strerror or exc}") from None
+    write_output(target, data)

@@ -88,6 +88,7 @@ class DecisionSection:
     outputs: tuple[str, ...]
     note: str
     decided_at: str
+    decided_by: str | None
     evidence: Evidence
     forms: tuple[FormLine, ...]
     groups: tuple[GroupLine, ...]
@@ -242,6 +243,7 @@ def _section(
         outputs=decision.outputs,
         note=decision.note,
         decided_at=decision.decided_at,
+        decided_by=decision.decided_by,
         evidence=decision.evidence,
         forms=tuple(forms),
         groups=tuple(lines),

@@ -33,7 +33,9 @@ def _decision(d: DecisionSection, outcome: str) -> str:
     parts = [
         f"<h3>{escape(d.column)}</h3>",
         f"<p><strong>Accepted form:</strong> {escape(d.form)} — {escape(d.in_words)}.</p>",
-        f"<p>Output columns: {escape(', '.join(d.outputs))}. Decided {escape(d.decided_at)}.</p>",
+        f"<p>Output columns: {escape(', '.join(d.outputs))}. Decided {escape(d.decided_at)}"
+        + (f" by {escape(d.decided_by)}" if d.decided_by else "")
+        + ".</p>",
     ]
     shown = evidence_words(d.evidence)
     if shown:

@@ -18,7 +18,10 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 def _decision(d: DecisionSection) -> list[str]:
     out = [f"### {d.column}", "", f"**Accepted form:** {d.form} — {d.in_words}.", ""]
-    out.append(f"Output columns: {', '.join(f'`{o}`' for o in d.outputs)}. Decided {d.decided_at}.")
+    by = f" by {d.decided_by}" if d.decided_by else ""
+    out.append(
+        f"Output columns: {', '.join(f'`{o}`' for o in d.outputs)}. Decided {d.decided_at}{by}."
+    )
     out.append("")
     shown = evidence_words(d.evidence)
     if shown:

@@ -37,6 +37,7 @@ def _shown(evidence: Evidence) -> list[tuple[str, object]]:
         ("adjusted for", ", ".join(evidence.adjusted_for)),
         ("weight", weights.column),
         ("weight kind", weights.kind),
+        ("made with bendwise", evidence.version),
     ]
 
 

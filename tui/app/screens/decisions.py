@@ -123,7 +123,11 @@ class DecisionsScreen(Screen[str | None]):
             return
         decision = self.session.log.decision_for(column)
         if decision is None:
-            detail.update(f"{column}: set aside · note: {self.session.saved_note(column) or '-'}")
+            aside = next(e for e in self.session.log.set_aside if e.column == column)
+            by = f" · by {aside.decided_by}" if aside.decided_by else ""
+            detail.update(
+                f"{column}: set aside{by} · note: {self.session.saved_note(column) or '-'}"
+            )
             return
         ev = decision.evidence
         facts = [f"{column}: {decision.recoding.describe()}"]
@@ -138,6 +142,10 @@ class DecisionsScreen(Screen[str | None]):
         if ev.weights.column:
             facts.append(f"{ev.weights.kind or ''} weights {ev.weights.column}".strip())
         facts.append(f"range {decision.range[0]:.6g} to {decision.range[1]:.6g}")
+        if decision.decided_by:
+            facts.append(f"by {decision.decided_by}")
+        if ev.version:
+            facts.append(f"bendwise {ev.version}")
         facts.append(f"note: {decision.note or '-'}")
         detail.update(" · ".join(facts))
 

@@ -103,7 +103,7 @@ class TriageScreen(Screen[None]):
         outcome = s.dataset.outcome
         yield Line(
             f"bendwise review · {s.dataset.path.name} · outcome {outcome.column} "
-            f"(event {outcome.event})",
+            f"(event {outcome.event})" + (" · READ-ONLY" if s.book.read_only else ""),
             id="title",
         )
         with Horizontal(id="progress"):

@@ -3,15 +3,15 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from contextlib import suppress
 from dataclasses import dataclass, replace
 from typing import ClassVar
 
+from rich.console import Console, ConsoleOptions, RenderResult
 from rich.text import Text
 from textual import events
 from textual.binding import Binding
 from textual.widgets import DataTable
-from textual.widgets.data_table import CellDoesNotExist, RowDoesNotExist
+from textual.widgets.data_table import RowDoesNotExist
 
 
 @dataclass(frozen=True)
@@ -56,15 +56,49 @@ CURSOR_MARK = "▸"
 colour too (NO_COLOR)."""
 
 
+class CellText(Text):
+    """Text already cut to its column's width. DataTable measures every new cell to size
+    columns that fit their content; these columns have fixed widths, and measuring 2,000
+    rows of fields took over a second, so a cell offers no measure."""
+
+    __rich_measure__ = None  # type: ignore[assignment]
+
+
 def cell(text: str, width: int, right: bool, lead: str = " ") -> Text:
     """A cell's text cut to its width, with ``lead`` (one cell) before it."""
     if len(text) > width:
         text = text[: width - 1] + "…"
-    return Text(lead + (text.rjust(width) if right else text.ljust(width)))
+    return CellText(lead + (text.rjust(width) if right else text.ljust(width)))
 
 
 Row = tuple[str, dict[str, str]]
 """A row key and the text of each field."""
+
+
+class LeadCell:
+    """The first field of a row, drawn with CURSOR_MARK while the cursor is on the row.
+
+    Deciding at draw time keeps moving the cursor cheap: DataTable keeps the drawing of
+    each cell, separately for the cursor row, until any cell changes; writing the mark into
+    the cells would make it draw every visible cell again on each key."""
+
+    def __init__(self, table: KeyTable, key: str, text: str, width: int, right: bool) -> None:
+        self._table, self.key = table, key
+        self._plain, self._marked = cell(text, width, right), cell(text, width, right, CURSOR_MARK)
+
+    @property
+    def text(self) -> Text:
+        """The cell as drawn now."""
+        on = self._table.highlighted_key() == self.key
+        return self._marked if on else self._plain
+
+    @property
+    def plain(self) -> str:
+        """The text drawn now, mark included."""
+        return self.text.plain
+
+    def __rich_console__(self, console: Console, options: ConsoleOptions) -> RenderResult:
+        yield self.text
 
 
 class KeyTable(DataTable):
@@ -93,20 +127,26 @@ class KeyTable(DataTable):
         super().__init__(id=id, cursor_type="row", zebra_stripes=True, cell_padding=0)
         self._shown: list[tuple[ColumnSpec, int]] = []
         self._rows: list[Row] = []
-        self._marked: str | None = None  # the row key drawn with CURSOR_MARK
 
     def on_resize(self, event: events.Resize) -> None:
         self._layout(event.size.width)
 
     def show_rows(self, rows: Sequence[Row]) -> None:
         """Show these rows, keeping the cursor on the same key where possible."""
+        same = len(rows) == len(self._rows) and dict(rows) == dict(self._rows)
         self._rows = list(rows)
         if self._layout(self.size.width or 80):
             return
         key = self.highlighted_key()
-        self._fill()
+        if same and self._shown and self.row_count == len(rows):
+            self._reorder()  # the same rows in another order: nothing to draw anew
+        else:
+            self._fill()
         self.move_to_key(key)
-        self._mark_cursor()
+
+    def _reorder(self) -> None:
+        place = {key: i for i, (key, _) in enumerate(self._rows)}
+        self.sort(self._shown[0][0].key, key=lambda lead: place[lead.key])
 
     def highlighted_key(self) -> str | None:
         """The key of the row under the cursor."""
@@ -124,30 +164,6 @@ class KeyTable(DataTable):
         except RowDoesNotExist:  # filtered out, or not there yet
             index = 0
         self.move_cursor(row=index, animate=False)
-        self._mark_cursor()
-
-    def _on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
-        # Runs before the message bubbles on to the screen (it is not stopped).
-        self._mark_cursor()
-
-    def _mark_cursor(self) -> None:
-        """Draw CURSOR_MARK on the row under the cursor only."""
-        key = self.highlighted_key()
-        if key == self._marked or not self._shown:
-            return
-        fields = dict(self._rows)
-        spec, width = self._shown[0]
-        if self._marked is not None and self._marked in fields:
-            text = cell(fields[self._marked][spec.key], width, spec.right)
-            self._set_first(self._marked, spec.key, text)
-        if key is not None and key in fields:
-            text = cell(fields[key][spec.key], width, spec.right, CURSOR_MARK)
-            self._set_first(key, spec.key, text)
-        self._marked = key
-
-    def _set_first(self, row: str, column: str, text: Text) -> None:
-        with suppress(CellDoesNotExist, RowDoesNotExist):  # the rows were replaced meanwhile
-            self.update_cell(row, column, text)
 
     def specs(self) -> tuple[ColumnSpec, ...]:
         """The columns this table may show now (all of ``SPECS`` unless overridden)."""
@@ -177,7 +193,6 @@ class KeyTable(DataTable):
             self.add_column(cell(spec.header, w, spec.right), key=spec.key, width=w + 1)
         self._fill()
         self.move_to_key(key)
-        self._mark_cursor()
         return True
 
     def _longest(self, spec: ColumnSpec) -> int:
@@ -186,6 +201,9 @@ class KeyTable(DataTable):
 
     def _fill(self) -> None:
         self.clear()
-        self._marked = None
+        if not self._shown:
+            return
+        (first, width), rest = self._shown[0], self._shown[1:]
         for key, fields in self._rows:
-            self.add_row(*(cell(fields[s.key], w, s.right) for s, w in self._shown), key=key)
+            lead = LeadCell(self, key, fields[first.key], width, first.right)
+            self.add_row(lead, *(cell(fields[s.key], w, s.right) for s, w in rest), key=key)

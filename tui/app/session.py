@@ -364,7 +364,7 @@ def open_session(
         coded = dataset.outcome
         source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
         log, warning = open_log(path, coded.column, coded.event, source)
-        book = DecisionBook(log, path, access.read_only, access.lock)
+        book = DecisionBook(log, path, read_only=access.read_only, lock=access.lock)
         if analyst:
             book.analyst = analyst
         return ReviewSession(  # builds the covariates and weights: may refuse them

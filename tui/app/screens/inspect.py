@@ -21,7 +21,6 @@ from tui.app.screens.column_lines import (
     CUT_TIP,
     GROUPS_TIP,
     HINGE_TIP,
-    KNOT_CHOICES,
     KNOTS_TIP,
     RECODED_TIP,
     SHORT_BELOW,
@@ -29,15 +28,14 @@ from tui.app.screens.column_lines import (
     counts_line,
     heading_line,
     legend_line,
-    next_choice,
     score_line,
     settings_line,
 )
 from tui.app.screens.decisions import DecisionsScreen
+from tui.app.screens.hand_forms import SIDE_TIP, HandFormsHook
 from tui.app.screens.note_prompt import NotePrompt
 from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.share_line import SharesHook, share_line
-from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
 from tui.app.text import path_text
 from tui.app.view_state import ReviewView
@@ -48,23 +46,15 @@ from tui.app.widgets.missing_panel import MissingPanel
 from tui.cautions import CAUTIONS
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
-from tui.engine.forms.hinge import HingeCandidate
-from tui.engine.forms.indicator import IndicatorCandidate
-from tui.engine.groups import GROUP_CHOICES
 from tui.engine.stability import SelectionShares
 from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
 MISSING_TIP = "Code a missing x for the accepted form: leave, fill, or fill + indicator"
-SIDE_TIP = "Indicators read 1 on the other side of the cut point"
-SIDE_WORDS = {
-    "below": "The indicator is 1 below the cut point and 0 from it upwards (b: the other side).",
-    "above": "The indicator is 1 from the cut point upwards and 0 below it (b: the other side).",
-}
 
 
-class InspectScreen(SharesHook, Screen[str]):
+class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
     """One column under inspection; dismisses with the column last shown."""
 
     CSS_PATH = "inspect.tcss"
@@ -396,80 +386,6 @@ class InspectScreen(SharesHook, Screen[str]):
         if self.fits is not None:
             self.query_one(FormsTable).show(self.fits, self._accepted(), self.shares)
         self._refresh_heading()
-
-    # --- settings and hand-entered forms ------------------------------------------------
-
-    def action_cycle_groups(self) -> None:
-        """Next number of quantile groups (4, 5, 10, 20)."""
-        self.view.settings[self.column] = (next_choice(GROUP_CHOICES, self.groups), self.knots)
-        self._refresh_heading()
-        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
-
-    def action_flip_side(self) -> None:
-        """Indicators read 1 on the other side of their cut point (the fit is the same;
-        the coefficient changes sign, and the log records the side)."""
-        self.view.flip_side(self.column)
-        tell(self, f"indicators now read 1 {self.view.side(self.column)} the cut", timeout=3)
-        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
-
-    def action_cycle_knots(self) -> None:
-        """Next number of spline knots (3 to 7)."""
-        self.view.settings[self.column] = (self.groups, next_choice(KNOT_CHOICES, self.knots))
-        self._refresh_heading()
-        # The highlight stays where it is: the spline row is refitted, not chosen.
-        self._load(self.query_one(FormsTable).highlighted_key() or self._want_key)
-
-    def _range(self) -> tuple[float, float] | None:
-        profile = self.session.profile_of(self.column)
-        if profile.minimum is None or profile.maximum is None:
-            return None
-        if profile.minimum >= profile.maximum:
-            return None
-        return profile.minimum, profile.maximum
-
-    def action_enter_cut(self) -> None:
-        """Type a cut point for an indicator (1 when x < c)."""
-        span = self._range()
-        if span is None:
-            tell(self, "no range of values to cut", severity="warning")
-            return
-        prompt = ValuePrompt(
-            f"Cut point for {self.column}",
-            SIDE_WORDS[self.view.side(self.column)],
-            *span,
-        )
-        self.app.push_screen(prompt, self._cut_entered)
-
-    def action_enter_hinge(self) -> None:
-        """Type the knot of a hinge (x, and x beyond the knot)."""
-        span = self._range()
-        if span is None:
-            tell(self, "no range of values to place a knot in", severity="warning")
-            return
-        prompt = ValuePrompt(
-            f"Hinge knot for {self.column}",
-            "The slope may change at the knot: x and max(x − knot, 0).",
-            *span,
-        )
-        self.app.push_screen(prompt, self._hinge_entered)
-
-    def _cut_entered(self, value: float | None) -> None:
-        if value is None:
-            return
-        cut = IndicatorCandidate(cut=value, side=self.view.side(self.column))
-        known = {c.label: c.key for c in self.request().wanted.by_hand()}
-        if cut.label not in known:  # 12.5 and 12.5000001 read the same
-            self.view.add_cut(self.column, value)
-        self._load(known.get(cut.label, cut.key))
-
-    def _hinge_entered(self, value: float | None) -> None:
-        if value is None:
-            return
-        hinge = HingeCandidate(knot=value)
-        known = {c.label: c.key for c in self.request().wanted.by_hand()}
-        if hinge.label not in known:
-            self.view.add_hinge(self.column, value)
-        self._load(known.get(hinge.label, hinge.key))
 
     # --- moving ---------------------------------------------------------------------------
 

@@ -63,7 +63,8 @@ class Dialect:
         if isinstance(value, int | np.integer):
             return str(int(value))
         if isinstance(value, Decimal):
-            return f"CAST({self.text(str(value))} AS DECIMAL(38, {max(0, -value.as_tuple().exponent)}))"
+            scale = max(0, -int(value.as_tuple().exponent))
+            return f"CAST({self.text(str(value))} AS DECIMAL(38, {scale}))"
         if isinstance(value, float | np.floating):
             return self.number(float(value))
         if isinstance(value, str):

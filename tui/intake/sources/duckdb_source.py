@@ -10,8 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn
-from tui.intake.sources.base import SourceOutcome
+from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.reduce import SqlReduction
 from tui.problems import InputProblem
@@ -35,13 +34,13 @@ class DuckDBSource:
         try:
             import duckdb
         except ImportError:
-            raise InputProblem("DuckDB sources need the duckdb package (pip install duckdb)")
+            raise InputProblem(
+                "DuckDB sources need the duckdb package (pip install duckdb)"
+            ) from None
         self._duckdb = duckdb
         try:
             self._con = (
-                duckdb.connect(database, read_only=True)
-                if database
-                else duckdb.connect(":memory:")
+                duckdb.connect(database, read_only=True) if database else duckdb.connect(":memory:")
             )
         except duckdb.Error as problem:
             raise InputProblem(f"{label}: cannot open: {problem}") from None

@@ -17,6 +17,8 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.reduce import SqlReduction
@@ -25,6 +27,8 @@ from tui.problems import InputProblem
 ACCURACY = 100_000
 """percentile_approx accuracy: rank error at most n / ACCURACY rows."""
 DEFAULT_MASTER = "local[*]"
+BLOCK = 32
+"""Edges per block of a binned column's two-step bucket search."""
 NUMERIC_TYPES = frozenset({"tinyint", "smallint", "int", "bigint", "float", "double", "boolean"})
 
 
@@ -48,6 +52,18 @@ class SparkDialect(Dialect):
 
     def quantiles(self, expr: str, probs: Sequence[float]) -> str:
         return f"percentile_approx({expr}, {self._array(probs)}, {ACCURACY})"
+
+    def bucket(self, expr: str, edges: np.ndarray) -> str:
+        """Count of edges <= x in two steps over literal arrays (blocks of ``BLOCK``): a
+        deep CASE tree is too large for Spark's code generation and runs interpreted."""
+        if edges.size == 0:
+            return "0"
+        blocks = [edges[i : i + BLOCK] for i in range(0, edges.size, BLOCK)]
+        firsts = self._array([b[0] for b in blocks])
+        nested = "array(" + ", ".join(self._array(b) for b in blocks) + ")"
+        j = f"size(filter({firsts}, e -> e <= {expr}))"
+        inside = f"size(filter(element_at({nested}, {j}), e -> e <= {expr}))"
+        return f"CASE WHEN {j} = 0 THEN 0 ELSE ({j} - 1) * {BLOCK} + {inside} END"
 
 
 def spark_session(master: str | None):

@@ -10,6 +10,7 @@ from tui import recodings
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import ELIDE_HELP, as_csv, as_json, as_table
+from tui.cli.source_options import add_source_options, opened_source, scan_results
 from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
@@ -32,6 +33,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     add_data_options(parser)
     add_fit_options(parser)
     add_adjust_options(parser, forms_from_log=True)
+    add_source_options(parser)
     parser.add_argument(
         "--format", choices=("table", "csv", "json"), default="table", help="output format"
     )
@@ -91,6 +93,9 @@ def run(args: argparse.Namespace) -> int:
     if args.output:
         inputs = [("data file", args.data)] + ([("recoding log", args.log)] if args.log else [])
         check_output(args.output, inputs, args.force)
+    source = opened_source(args)  # a database, Spark, or --engine duckdb: counts come back
+    if source is not None:
+        return _write(args, rank(scan_results(source, args)), "")
     data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     require_numeric(data, args.weight)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
@@ -105,6 +110,10 @@ def run(args: argparse.Namespace) -> int:
         else _two_passes(columns, data, settings, adjust)
     )
     ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped])
+    return _write(args, ranked, adjust.describe() if adjust else "")
+
+
+def _write(args: argparse.Namespace, ranked: list[ColumnScan], adjusted: str) -> int:
     if args.format == "json":
         text = as_json(ranked)
     elif args.format == "csv":
@@ -114,7 +123,7 @@ def run(args: argparse.Namespace) -> int:
         width = (
             shutil.get_terminal_size().columns if sys.stdout.isatty() and not args.output else None
         )
-        text = as_table(ranked, adjust.describe() if adjust else "", width)
+        text = as_table(ranked, adjusted, width)
     if args.output:
         write_output(args.output, text)
     else:

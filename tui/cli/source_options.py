@@ -1,0 +1,60 @@
+"""Options and dispatch for data that lives in an engine (DuckDB, PostgreSQL, Spark)."""
+
+from __future__ import annotations
+
+import argparse
+
+from tui.engine.pushed import scan_source
+from tui.engine.scan import ColumnScan, ScanSettings
+from tui.intake.sources import Source, open_source
+from tui.problems import InputProblem
+
+ENGINES = ("pandas", "duckdb")
+
+
+def add_source_options(parser: argparse.ArgumentParser) -> None:
+    """--table, --query, --engine and --spark-master."""
+    parser.add_argument("--table", metavar="[SCHEMA.]NAME", help="table of a database DATA")
+    parser.add_argument("--query", metavar="SQL", help="query whose rows a database DATA scans")
+    parser.add_argument(
+        "--engine",
+        choices=ENGINES,
+        default="pandas",
+        help="duckdb: reduce a CSV or Parquet file inside DuckDB without loading it",
+    )
+    parser.add_argument(
+        "--spark-master",
+        metavar="URL",
+        help="Spark master for spark:NAME (default local[*]; Spark's own settings apply)",
+    )
+
+
+def opened_source(args: argparse.Namespace) -> Source | None:
+    """The source DATA names, or None when pandas reads it as a file."""
+    return open_source(
+        args.data,
+        args.table,
+        args.query,
+        None if args.engine == "pandas" else args.engine,
+        args.spark_master,
+    )
+
+
+def scan_results(source: Source, args: argparse.Namespace) -> list[ColumnScan]:
+    """Every column's scan from counts the engine reduced (q-values left for ``rank``)."""
+    if args.adjust or args.weight:
+        raise InputProblem(
+            f"--adjust and --weight need row-level covariates, which are not pulled from "
+            f"{source.label}; scan a file holding the columns they need"
+        )
+    try:
+        outcome = source.code_outcome(args.outcome, args.event)
+        names = [c.name for c in source.columns()]
+        unknown = [e for e in args.exclude if e not in names]
+        if unknown:
+            raise InputProblem(f"--exclude names unknown columns: {', '.join(unknown)}")
+        chosen = [n for n in names if n != args.outcome and n not in args.exclude]
+        settings = ScanSettings(groups=args.groups, knots=args.knots)
+        return list(scan_source(source, outcome, chosen, settings))
+    finally:
+        source.close()

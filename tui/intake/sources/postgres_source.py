@@ -1,0 +1,107 @@
+"""PostgreSQL: a table or query reduced by the server (psycopg 3, the ``postgres`` extra).
+
+``percentile_disc`` and ``percentile_cont`` (ordered-set aggregates) are exact, and
+``percentile_cont`` interpolates as numpy's default does; ``width_bucket`` over an array of
+edges does a binned column's bucket search inside the server.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+
+from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
+from tui.intake.sources.dialect import Dialect
+from tui.intake.sources.postgres_url import checked_url, redacted, scrub
+from tui.intake.sources.reduce import SqlReduction
+from tui.problems import InputProblem
+
+NUMERIC_TYPES = frozenset({"int2", "int4", "int8", "float4", "float8", "numeric", "bool", "oid"})
+
+
+class PostgresDialect(Dialect):
+    """PostgreSQL's spelling."""
+
+    double = "DOUBLE PRECISION"
+
+    def as_double(self, quoted: str, column: SourceColumn) -> str:
+        if column.type == "bool":  # no direct cast from boolean to a float
+            return f"CAST(CAST({quoted} AS INTEGER) AS {self.double})"
+        return f"CAST({quoted} AS {self.double})"
+
+    def _array(self, probs: Sequence[float]) -> str:
+        return "ARRAY[" + ", ".join(repr(float(p)) for p in probs) + "]::float8[]"
+
+    def order_stats(self, expr: str, probs: Sequence[float]) -> str:
+        return f"percentile_disc({self._array(probs)}) WITHIN GROUP (ORDER BY {expr})"
+
+    def quantiles(self, expr: str, probs: Sequence[float]) -> str:
+        return f"percentile_cont({self._array(probs)}) WITHIN GROUP (ORDER BY {expr})"
+
+    def bucket(self, expr: str, edges: np.ndarray) -> str:
+        if edges.size == 0:
+            return "0"
+        # width_bucket(x, thresholds): the count of thresholds <= x (a binary search).
+        return f"width_bucket({expr}, {self._array([float(e) for e in edges])})"
+
+
+class PostgresSource:
+    """A PostgreSQL relation, reduced by the server."""
+
+    def __init__(self, url: str, table: str | None, query: str | None) -> None:
+        try:
+            import psycopg
+        except ImportError:
+            raise InputProblem(
+                "PostgreSQL sources need psycopg (pip install 'bendwise[postgres]')"
+            ) from None
+        self._psycopg = psycopg
+        self._url = checked_url(url)
+        self.dialect = PostgresDialect()
+        relation = self.dialect.relation(table, query)
+        what = f"table {table}" if table else "query"
+        self.label = f"{redacted(url)} {what}"
+        try:
+            self._con = psycopg.connect(self._url, autocommit=True)
+        except psycopg.Error as problem:
+            raise InputProblem(f"{redacted(url)}: {self._first_line(problem)}") from None
+        with self._con.cursor() as cur:
+            try:
+                cur.execute(f"SELECT * FROM {relation} AS s LIMIT 0")
+            except psycopg.Error as problem:
+                raise InputProblem(f"{self.label}: {self._first_line(problem)}") from None
+            names = []
+            for d in cur.description:
+                info = self._con.adapters.types.get(d.type_code)
+                type_name = info.name if info else str(d.type_code)
+                names.append(SourceColumn(d.name, type_name, type_name in NUMERIC_TYPES))
+        self._columns = names
+        self._reduction = SqlReduction(self.dialect, self._run, relation, self._columns)
+
+    def _first_line(self, problem: Exception) -> str:
+        text = str(problem).strip().splitlines()
+        return scrub(text[0] if text else type(problem).__name__, self._url)
+
+    def _run(self, sql: str) -> list[tuple[Any, ...]]:
+        try:
+            with self._con.cursor() as cur:
+                cur.execute(sql)
+                return cur.fetchall()
+        except self._psycopg.Error as problem:
+            raise InputProblem(f"{self.label}: {self._first_line(problem)}") from None
+
+    def columns(self) -> list[SourceColumn]:
+        return list(self._columns)
+
+    def code_outcome(self, column: str, event: str | None) -> SourceOutcome:
+        return self._reduction.code(column, event)
+
+    def reduce(
+        self, outcome: SourceOutcome, names: list[str], plan: BinPlan
+    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
+        return self._reduction.reduce(outcome, names, plan)
+
+    def close(self) -> None:
+        self._con.close()

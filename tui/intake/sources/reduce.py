@@ -1,0 +1,273 @@
+"""The pushed-down reduction: a few batched queries, whatever the number of columns.
+
+1. outcome levels with their row counts (``code``);
+2. one profile row: per column finite rows, distinct values, min, max, non-whole and
+   infinite counts (non-numeric columns: present rows, events, distinct values);
+3. one GROUPING SETS query: rows and events per distinct value of every exactly reduced
+   column;
+4. for binned columns, one query of order statistics and the quantile grid, one of the
+   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin.
+
+Every answer is per column, per distinct value or per bin; no row leaves the engine.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from tui.intake.outcome import _ordered, _show, code_outcome
+from tui.intake.sources import bins
+from tui.intake.sources.base import (
+    BinPlan,
+    OtherColumn,
+    PushedColumn,
+    SourceColumn,
+    SourceOutcome,
+)
+from tui.intake.sources.dialect import Dialect
+from tui.problems import InputProblem
+
+Run = Callable[[str], list[tuple[Any, ...]]]
+"""Runs one statement and returns every row of its answer."""
+
+
+class SqlReduction:
+    """The reduction of one relation (table or query) through one engine's SQL."""
+
+    def __init__(
+        self, dialect: Dialect, run: Run, relation: str, columns: Sequence[SourceColumn]
+    ) -> None:
+        self.dialect, self.run, self.relation = dialect, run, relation
+        self.columns = {c.name: c for c in columns}
+        self._y = ""
+        self._outcome = ""
+
+    def code(self, column: str, event: str | None) -> SourceOutcome:
+        """Code the outcome by the file rules, from its levels and their counts."""
+        names = list(self.columns)
+        if column not in names:
+            code_outcome(pd.DataFrame(columns=names), column, event)  # raises the message
+        q = self.dialect.quote(column)
+        total, present, distinct = self.run(
+            f"SELECT COUNT(*), COUNT({q}), COUNT(DISTINCT {q}) FROM {self.relation} AS s"
+        )[0]
+        if distinct > 2:
+            shown = self.run(
+                f"SELECT {q} FROM {self.relation} AS s WHERE {q} IS NOT NULL "
+                f"GROUP BY {q} ORDER BY {q} LIMIT 6"
+            )
+            ordered = _ordered({row[0]: row[0] for row in shown})
+            listed = ", ".join(_show(v) for v in ordered[:5])
+            raise InputProblem(
+                f"outcome column '{column}' has {distinct} distinct values ({listed}, ...); "
+                "it needs exactly two"
+                if distinct > 5
+                else f"outcome column '{column}' has {distinct} distinct values ({listed}); "
+                "it needs exactly two"
+            )
+        levels = self.run(
+            f"SELECT {q}, COUNT(*) FROM {self.relation} AS s WHERE {q} IS NOT NULL GROUP BY {q}"
+        )
+        frame = pd.DataFrame({column: [level for level, _ in levels]})
+        coded = code_outcome(frame, column, event)  # the file's messages and event choice
+        counts = np.array([int(n) for _, n in levels], dtype=np.int64)
+        events = int(counts[coded.y == 1].sum())
+        raw = next(level for (level, _), flag in zip(levels, coded.y, strict=True) if flag)
+        self._outcome = q
+        self._y = f"CASE WHEN {q} = {self.dialect.literal(raw)} THEN 1 ELSE 0 END"
+        return SourceOutcome(column, coded.event, events, int(present) - events, total - present)
+
+    def _finite(self, column: SourceColumn) -> str:
+        d = self.dialect
+        x = d.as_double(d.quote(column.name), column)
+        return f"CASE WHEN {x} > {d.number(-np.inf)} AND {x} < {d.number(np.inf)} THEN {x} END"
+
+    def _base(self, numeric: Sequence[SourceColumn]) -> str:
+        """Rows with an outcome: y and each column's finite value (NULL otherwise)."""
+        parts = [f"{self._y} AS y__"] + [
+            f"{self._finite(c)} AS c{i}__" for i, c in enumerate(numeric)
+        ]
+        return (
+            f"WITH b AS (SELECT {', '.join(parts)} FROM {self.relation} AS s "
+            f"WHERE {self._outcome} IS NOT NULL) "
+        )
+
+    def reduce(
+        self, outcome: SourceOutcome, names: Sequence[str], plan: BinPlan
+    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
+        """Reduce the named columns; numeric ones to counts, the others to a listing."""
+        if not self._y:
+            raise RuntimeError("code the outcome before reducing")
+        chosen = [self.columns[n] for n in names]
+        numeric = [c for c in chosen if c.numeric]
+        other = [c for c in chosen if not c.numeric]
+        profile = self._profile(numeric, other)
+        listing = [
+            OtherColumn(c.name, outcome.rows, int(p), int(e or 0), int(k))
+            for c, (p, e, k) in zip(other, profile[len(numeric) :], strict=True)
+        ]
+        if not numeric:
+            return [], listing
+        stats = profile[: len(numeric)]
+        exact = [
+            i
+            for i, (n, k, *_rest) in enumerate(stats)
+            if k <= plan.max_levels or n < plan.exact_below
+        ]
+        binned = [i for i in range(len(numeric)) if i not in set(exact)]
+        base = self._base(numeric)
+        tables = self._exact_counts(base, exact)
+        tables.update(self._binned_counts(base, binned, stats, plan))
+        pushed = []
+        for i, column in enumerate(numeric):
+            n, distinct, low, high, fractional, infinite = stats[i]
+            x, trials, events, gap, grid = tables[i]
+            pushed.append(
+                PushedColumn(
+                    column.name,
+                    outcome.rows,
+                    int(n),
+                    int(infinite or 0),
+                    bool(n) and not fractional,
+                    x,
+                    trials,
+                    events,
+                    i in exact,
+                    int(distinct),
+                    None if low is None else float(low),
+                    None if high is None else float(high),
+                    gap,
+                    grid,
+                )
+            )
+        return pushed, listing
+
+    def _profile(
+        self, numeric: Sequence[SourceColumn], other: Sequence[SourceColumn]
+    ) -> list[tuple[Any, ...]]:
+        d = self.dialect
+        parts = []
+        for c in numeric:
+            f = self._finite(c)
+            x = d.as_double(d.quote(c.name), c)
+            parts += [
+                f"COUNT({f})",
+                f"COUNT(DISTINCT {f})",
+                f"MIN({f})",
+                f"MAX({f})",
+                f"SUM(CASE WHEN {f} <> FLOOR({f}) THEN 1 ELSE 0 END)",
+                f"SUM(CASE WHEN {x} = {d.number(np.inf)} OR {x} = {d.number(-np.inf)} "
+                "THEN 1 ELSE 0 END)",
+            ]
+        for c in other:
+            q = d.quote(c.name)
+            parts += [
+                f"COUNT({q})",
+                f"SUM(CASE WHEN {q} IS NOT NULL THEN {self._y} ELSE 0 END)",
+                f"COUNT(DISTINCT {q})",
+            ]
+        row = self.run(
+            f"SELECT {', '.join(parts)} FROM {self.relation} AS s WHERE {self._outcome} IS NOT NULL"
+        )[0]
+        out: list[tuple[Any, ...]] = [tuple(row[6 * i : 6 * i + 6]) for i in range(len(numeric))]
+        start = 6 * len(numeric)
+        out += [tuple(row[start + 3 * j : start + 3 * j + 3]) for j in range(len(other))]
+        return out
+
+    def _grouped(self, base: str, keys: list[list[str]], extra: Sequence[str] = ()) -> list[tuple]:
+        """One GROUPING SETS query; each answer row is tagged by the set it belongs to."""
+        flat = [k for ks in keys for k in ks]
+        sets = ", ".join("(" + ", ".join(ks) + ")" for ks in keys)
+        rows = self.run(
+            f"{base}SELECT {', '.join(flat)}, COUNT(*), SUM(y__){''.join(', ' + e for e in extra)} "
+            f"FROM b GROUP BY GROUPING SETS ({sets})"
+        )
+        return rows
+
+    def _exact_counts(self, base: str, exact: list[int]) -> dict[int, tuple]:
+        empty = np.zeros(0)
+        out: dict[int, tuple] = {i: (empty, empty, empty, None, None) for i in exact}
+        if not exact:
+            return out
+        found: dict[int, list[tuple[float, float, float]]] = {i: [] for i in exact}
+        for row in self._grouped(base, [[f"c{i}__"] for i in exact]):
+            n, e = row[len(exact)], row[len(exact) + 1]
+            for slot, i in enumerate(exact):
+                if row[slot] is not None:
+                    found[i].append((float(row[slot]), float(n), float(e)))
+                    break
+        for i, triples in found.items():
+            if triples:
+                triples.sort()
+                x, t, e = (np.array(v, dtype=float) for v in zip(*triples, strict=True))
+                out[i] = (x, t, e, None, None)
+        return out
+
+    def _binned_counts(
+        self, base: str, binned: list[int], stats: list[tuple[Any, ...]], plan: BinPlan
+    ) -> dict[int, tuple]:
+        if not binned:
+            return {}
+        d = self.dialect
+        grid_probs = np.linspace(0.0, 1.0, plan.grid)
+        parts = []
+        for i in binned:
+            n = int(stats[i][0])
+            parts.append(d.order_stats(f"c{i}__", bins.order_probabilities(n, plan)))
+            parts.append(d.quantiles(f"c{i}__", grid_probs))
+        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        gaps = self.run(
+            base
+            + "SELECT "
+            + ", ".join(
+                f"(SELECT MIN(d__) FROM (SELECT c{i}__ - LAG(c{i}__) OVER (ORDER BY c{i}__) "
+                f"AS d__ FROM b WHERE c{i}__ IS NOT NULL) w WHERE d__ > 0)"
+                for i in binned
+            )
+        )[0]
+        cut: dict[int, bins.Cuts] = {}
+        keys, sums, selects = [], [], []
+        for slot, i in enumerate(binned):
+            n, _, low, high, *_ = stats[i]
+            cut[i] = bins.cuts(int(n), plan, answer[2 * slot], float(low), float(high))
+            c = f"c{i}__"
+            lo, hi = d.number(cut[i].low_tail), d.number(cut[i].high_tail)
+            tail = f"{c} < {lo} OR {c} >= {hi}"
+            selects.append(
+                f"CASE WHEN {c} IS NULL THEN NULL WHEN {tail} THEN -1 "
+                f"ELSE {d.bucket(c, cut[i].edges)} END AS k{i}__"
+            )
+            selects.append(f"CASE WHEN {tail} THEN {c} END AS v{i}__")
+            keys.append([f"k{i}__", f"v{i}__"])
+            sums.append(f"SUM({c})")
+        inner = base.rstrip() + f", bb AS (SELECT y__, {', '.join(f'c{i}__' for i in binned)}, "
+        inner += ", ".join(selects) + " FROM b) "
+        flat = [k for ks in keys for k in ks]
+        sets = ", ".join("(" + ", ".join(ks) + ")" for ks in keys)
+        rows = self.run(
+            f"{inner}SELECT {', '.join(flat)}, COUNT(*), SUM(y__), {', '.join(sums)} "
+            f"FROM bb GROUP BY GROUPING SETS ({sets})"
+        )
+        found: dict[int, list[tuple[float, float, float]]] = {i: [] for i in binned}
+        width = 2 * len(binned)
+        for row in rows:
+            for slot, i in enumerate(binned):
+                k, v = row[2 * slot], row[2 * slot + 1]
+                if k is None:
+                    continue
+                n, e = float(row[width]), float(row[width + 1])
+                x = float(v) if v is not None else float(row[width + 2 + slot]) / n
+                found[i].append((x, n, e))
+                break
+        out = {}
+        for slot, i in enumerate(binned):
+            triples = sorted(found[i])
+            x, t, e = (np.array(v, dtype=float) for v in zip(*triples, strict=True))
+            grid = np.asarray(answer[2 * slot + 1], dtype=float)
+            gap = gaps[slot]
+            out[i] = (x, t, e, None if gap is None else float(gap), grid)
+        return out

@@ -17,7 +17,8 @@ from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
 from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
-from tui.engine.scan import ScanSettings, reduce_for_scan
+from tui.engine.exact_score import exact_score
+from tui.engine.scan import ColumnScan, ScanSettings, reduce_for_scan
 from tui.intake.dataset import ColumnarDataset, Dataset
 
 ROW_LEVEL_KEPT = 6
@@ -78,6 +79,7 @@ class FitCache:
         # Row-level entries, least recently used first: their counts hold every row.
         self._row_counts: OrderedDict[tuple[str, Basis], ReducedCounts] = OrderedDict()
         self._row_fits: OrderedDict[FitRequest, ColumnFits] = OrderedDict()
+        self._exact: dict[tuple[str, ScanSettings], ColumnScan | None] = {}
 
     def cached(self, request: FitRequest) -> ColumnFits | None:
         """The fits if already computed."""
@@ -124,6 +126,19 @@ class FitCache:
             else:
                 _keep_recent(self._row_fits, request, result)
         return result
+
+    def exact_score(self, column: str, settings: ScanSettings) -> ColumnScan | None:
+        """The score of a column the scan binned, refitted on every distinct value (the
+        engine's ``exact_score``; None when too many values). Call it from a worker."""
+        key = (column, settings)
+        with self._lock:
+            if key in self._exact:
+                return self._exact[key]
+        x = self._dataset.raw_values(column)
+        found = exact_score(x, self._dataset.outcome.y, settings, column)
+        with self._lock:
+            self._exact[key] = found
+        return found
 
 
 def _keep_recent(kept: OrderedDict, key: object, value: object) -> None:

@@ -6,7 +6,7 @@ counts). The screens' own state (list order, typed numbers, draft notes) is a
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from tui.app.basis import Adjustments, Basis
@@ -67,7 +67,8 @@ class ReviewSession:
     ranked: list[ColumnScan] = field(default_factory=list)
     """Scan results so far, most non-linear first."""
     scan_finished: bool = False
-    """All columns scanned: q-values and shape hints are final."""
+    """Every column scored: q-values are final (a column's shape hint is final once its
+    forms are fitted, ``ColumnScan.forms_fitted``; the second pass may still run)."""
     adjust: tuple[str, ...] = ()
     """Covariates asked for on the command line (``--adjust``): in every fit."""
     weight: str | None = None
@@ -288,6 +289,8 @@ class ReviewSession:
         basis = self.basis_of(column) if basis is None else basis
         # The score is evidence only when it came from the same design as the row.
         scan = self.scan_of(column) if self.basis_of(column) == basis else None
+        if scan is not None and not scan.forms_fitted:
+            scan = replace(scan, shape=None)  # a first-pass hint: no threshold seen yet
         design = Design(
             self.adjusted_for(column, basis),
             self.describe_basis(column, basis),

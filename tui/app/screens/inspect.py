@@ -14,7 +14,7 @@ from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
-from tui.app.messages import FitsReady, ScoresChanged
+from tui.app.messages import ColumnOpened, FitsReady, ScoresChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens import missing_hooks
 from tui.app.screens.column_lines import counts_line, heading_line, score_line, settings_line
@@ -25,6 +25,7 @@ from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
 from tui.app.text import p_text, path_text
 from tui.app.view_state import ReviewView
+from tui.app.widgets.exactness_line import ExactnessLine
 from tui.app.widgets.forms_table import FormsTable, form_text, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
@@ -91,6 +92,7 @@ class InspectScreen(Screen[str]):
         yield Line("", id="heading")
         yield Line("", id="evidence")
         yield Line("", id="counts")
+        yield ExactnessLine(id="exactness")
         yield Line("", id="adjusted")
         with Horizontal(id="picture"):
             yield LogitPlot(id="plot")
@@ -134,6 +136,8 @@ class InspectScreen(Screen[str]):
         self.fits = None
         self._want_key = None  # a new column starts on its first form
         self.query_one(FormsTable).show_rows([])
+        self.query_one(ExactnessLine).show(None, self.cache, self.session.settings, None)
+        self.post_message(ColumnOpened(column))  # its forms jump the scan's queue
         self._refresh_heading()
         self._load()
 
@@ -184,6 +188,8 @@ class InspectScreen(Screen[str]):
         self._refresh_heading()
         self._refresh_row()
         missing_hooks.show_panel(self, self.session, self.column, fits)
+        s = self.session
+        self.query_one(ExactnessLine).show(fits, self.cache, s.settings, s.scan_of(self.column))
 
     def _accepted(self) -> Recoding | None:
         decision = self.session.log.decision_for(self.column)

@@ -20,7 +20,7 @@ from tui.app.session import ReviewSession
 from tui.app.text import number_text
 from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
-from tui.app.widgets.triage_table import TriageTable
+from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
@@ -129,11 +129,20 @@ class TriageScreen(Screen[None]):
     # --- the scan reports here (from the app) ---------------------------------------------
 
     def scan_progress(
-        self, done: int, total: int, finished: bool, problem: str | None, model: bool = False
+        self,
+        done: int,
+        total: int,
+        finished: bool,
+        problem: str | None,
+        model: bool = False,
+        forms: int | None = None,
     ) -> None:
         """New scan results are in the session: update the bar now, the list soon.
-        ``model``: the scan re-scores undecided columns in the working model."""
-        self.query_one("#scan-bar", ProgressBar).update(total=total, progress=done)
+        ``model``: the scan re-scores undecided columns in the working model; ``forms``:
+        the first pass is over and this many columns have their best form (the bar
+        follows the second pass)."""
+        bar = self.query_one("#scan-bar", ProgressBar)
+        bar.update(total=total, progress=done if forms is None else forms)
         skipped = [p.name for p in self.session.dataset.skipped]
         covariates = len(self.session.model or ())
         self._rescoring = model and not finished and problem is None
@@ -154,6 +163,8 @@ class TriageScreen(Screen[None]):
                 self._scan_text += f"; {zero} rows weigh 0 (left out)"
             if skipped:
                 self._scan_text += f"; not numeric: {', '.join(skipped)}"
+        elif forms is not None:
+            self._scan_text = f"{total} scored · best forms {forms}/{total} (ΔAIC fills in)"
         else:
             self._scan_text = f"{done}/{total} columns scanned (q-values at the end)"
         self.query_one("#scanned", Line).update(self._scan_text)
@@ -164,6 +175,8 @@ class TriageScreen(Screen[None]):
                 self._redraw_timer = None
             self.redraw()
             self._follow_top = False
+        elif forms == 0:
+            self.redraw()  # the first pass is over: q-values and the final order now
         elif self._redraw_timer is None:
             self._redraw_timer = self.set_timer(REFRESH_SECONDS, self._timed_redraw)
 
@@ -220,7 +233,7 @@ class TriageScreen(Screen[None]):
             empty = "no column matches" if self.session.ranked else "waiting for the first column…"
             detail.update(empty)
             return
-        best = scan.best_form or "-"
+        best = scan.best_form or ("-" if scan.forms_fitted else PENDING)
         basis = ""
         if self.query_one(TriageTable).adjusted_shown:
             named = ", ".join(scan.adjusted_for)

@@ -23,7 +23,7 @@ from tui.engine.missing_group import (
 )
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256, open_dataset
-from tui.intake.profile import ColumnProfile
+from tui.intake.profile import ColumnProfile, profile_column
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
 from tui.recodings.decisions import (
@@ -89,7 +89,13 @@ class ReviewSession:
     screens only, kept here so every screen of the review sees the same one."""
 
     def __post_init__(self) -> None:
-        self._profiles: dict[str, ColumnProfile] = {p.name: p for p in self.dataset.numeric}
+        # A columnar file's profiles are read when a column is first shown: reading every
+        # column before the list opens takes seconds at thousands of columns.
+        self._profiles: dict[str, ColumnProfile] = (
+            {}
+            if isinstance(self.dataset, ColumnarDataset)
+            else {p.name: p for p in self.dataset.numeric}
+        )
         self.adjustments = Adjustments(
             self.dataset, self.dataset.outcome.column, self.weight, self.weight_kind
         )
@@ -124,7 +130,13 @@ class ReviewSession:
 
     def profile_of(self, column: str) -> ColumnProfile:
         """Counts and range of the column's values."""
-        return self._profiles[column]
+        found = self._profiles.get(column)
+        if found is None:
+            if column not in self.dataset.columns:
+                raise KeyError(column)
+            found = profile_column(self.dataset.series(column), column)
+            self._profiles[column] = found
+        return found
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""

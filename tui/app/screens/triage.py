@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from collections.abc import Sequence
 
 from textual import events
@@ -28,6 +29,9 @@ SORTS = ("evidence", "name", "ΔAIC", "file order")
 MOVING_KEYS = {"up", "down", "j", "k", "pageup", "pagedown", "home", "end"}
 REFRESH_SECONDS = 0.2
 """While the scan runs, the list is redrawn at most this often."""
+REDRAW_SHARE = 0.25
+"""...and at most this share of the time: a list of thousands of columns takes a while to
+redraw, and keys must still answer while the second pass fills it in."""
 
 
 def arrange(
@@ -96,6 +100,7 @@ class TriageScreen(Screen[None]):
         self._rescoring = False  # a working-model re-score is under way
         self._follow_top = True  # while the scan runs, until a key moves the cursor
         self._opening_filter = False
+        self._redraw_cost = 0.0  # seconds the last redraw took
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -178,7 +183,8 @@ class TriageScreen(Screen[None]):
         elif forms == 0:
             self.redraw()  # the first pass is over: q-values and the final order now
         elif self._redraw_timer is None:
-            self._redraw_timer = self.set_timer(REFRESH_SECONDS, self._timed_redraw)
+            wait = max(REFRESH_SECONDS, self._redraw_cost / REDRAW_SHARE)
+            self._redraw_timer = self.set_timer(wait, self._timed_redraw)
 
     def _timed_redraw(self) -> None:
         self._redraw_timer = None
@@ -188,6 +194,7 @@ class TriageScreen(Screen[None]):
 
     def redraw(self) -> None:
         """Rebuild the list from the session."""
+        started = time.perf_counter()
         s = self.session
         hide = {c for c in s.columns if s.is_decided(c)} if self.hide_decided else set()
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
@@ -213,6 +220,7 @@ class TriageScreen(Screen[None]):
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
         self.query_one("#summary", Line).update(" · ".join(parts))
         self._describe_highlighted()
+        self._redraw_cost = time.perf_counter() - started
 
     def _model_hint(self) -> str:
         """The working-model keys, named when they would do something."""

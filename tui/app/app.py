@@ -10,11 +10,8 @@ through the app's actions (``app.working_model``, ``app.first_scores``).
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Iterator
 from multiprocessing import resource_tracker
-from typing import Protocol
 
-import numpy as np
 from textual import on, work
 from textual.app import App
 from textual.binding import Binding
@@ -23,15 +20,19 @@ from textual.worker import Worker, WorkerState, get_current_worker
 from tui.app.commands import ReviewCommands
 from tui.app.fit_cache import FitCache
 from tui.app.messages import (
+    ColumnOpened,
     ColumnRescored,
+    FormsProgress,
     LogChanged,
     RescoreDone,
     RescoreStarted,
     ScanDone,
     ScanProgress,
     ScoresChanged,
+    ScoresDone,
 )
 from tui.app.notices import not_saved, tell
+from tui.app.scan_stream import OnePass, Scanner, ScanTally, StepStream, TwoPasser
 from tui.app.screens.cautions_view import CautionsView
 from tui.app.screens.confirm_prompt import ConfirmPrompt
 from tui.app.screens.decisions import DecisionsScreen
@@ -41,27 +42,13 @@ from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.triage import TriageScreen
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
-from tui.engine.adjust import Adjustment
 from tui.engine.runner import scan_columns
-from tui.engine.scan import ColumnScan, ScanSettings, rank
+from tui.engine.scan import ColumnScan, rank
+from tui.engine.two_pass import TwoPassScan
 from tui.problems import InputProblem
 
 FIRST, MODEL = "first", "model"
 """The two kinds of scan: every column at the start; the undecided ones in the working model."""
-
-
-class Scanner(Protocol):
-    """The engine's column scanner (``scan_columns``; tests pass one that runs in-process)."""
-
-    def __call__(
-        self,
-        columns: Iterable[str],
-        values_of: Callable[[str], np.ndarray],
-        y: np.ndarray,
-        settings: ScanSettings,
-        *,
-        adjust: Adjustment | None = None,
-    ) -> Iterator[ColumnScan]: ...
 
 
 TABLE_KEYS = [
@@ -93,7 +80,16 @@ class ReviewApp(App[None]):
         ),
     ]
 
-    def __init__(self, session: ReviewSession, scanner: Scanner = scan_columns) -> None:
+    def __init__(
+        self,
+        session: ReviewSession,
+        scanner: Scanner = scan_columns,
+        two_pass: TwoPasser | None = None,
+    ) -> None:
+        """``scanner`` re-scores in the working model and scans adjusted columns (one
+        pass); ``two_pass`` runs the first scan of unadjusted columns, scores first and
+        forms second (default: the engine's ``TwoPassScan`` with the engine's scanner; a
+        scanner given alone, as in tests, runs the first scan in one pass too)."""
         # The engine scans on worker processes. Python starts a helper process for them on
         # first use, handing it stderr's file descriptor; once the app runs, sys.stderr is
         # Textual's stand-in, which has none, and the start fails. So start it now.
@@ -101,6 +97,8 @@ class ReviewApp(App[None]):
         super().__init__()
         self.session = session
         self.scanner = scanner
+        self.two_pass = TwoPassScan if two_pass is None and scanner is scan_columns else two_pass
+        self._stream: StepStream | None = None  # the first scan's, while it runs
         self.cache = FitCache(session.dataset, session.settings.max_levels, session.adjustment)
         self.triage = TriageScreen(session, self.cache)
         self.scan_kind = FIRST
@@ -136,28 +134,65 @@ class ReviewApp(App[None]):
 
     @work(thread=True, exclusive=True, group="scan", exit_on_error=False)
     def scan(self, run: int) -> None:
-        """Scan every column; the list fills in as each one finishes."""
+        """Scan every column: the list fills in with scores first (q-values when the first
+        pass ends), then the best forms column by column."""
         worker = get_current_worker()
+        stream = self._first_stream()
+        self._stream = stream
+        tally = ScanTally()
+        try:
+            for step in stream:
+                if worker.is_cancelled:
+                    return
+                tally.add(step)
+                if step.stage == "score" and tally.scored and not tally.forms_complete:
+                    self.post_message(ScoresDone(tally.ranked(), step.total, run))
+                elif tally.due(step):
+                    kind = ScanProgress if step.stage == "score" else FormsProgress
+                    self.post_message(kind(tally.ranked(), step.done, step.total, run))
+        finally:
+            self._stream = None
+            close = getattr(stream, "close", None)
+            if close is not None:
+                close()
+        tally.finish()
+        self.post_message(ScanDone(tally.ranked(), len(self.session.columns), run))
+
+    def _first_stream(self) -> StepStream:
+        """Two passes for unadjusted columns; adjusted ones share one covariate block in
+        one pass (as ``bendwise scan`` does)."""
         s = self.session
-        found: list[ColumnScan] = []
-        total = len(s.columns)
         adjust = s.adjustment(s.base)
         data = s.dataset
-        results = self.scanner(
-            s.columns, data.raw_values, data.outcome.y, s.settings, adjust=adjust
-        )
-        for result in results:
-            if worker.is_cancelled:
-                return
-            found.append(result)
-            self.post_message(ScanProgress(rank(found), len(found), total, run))
-        self.post_message(ScanDone(rank(found), total, run))
+        args = (s.columns, data.raw_values, data.outcome.y, s.settings)
+        if self.two_pass is not None and (adjust is None or adjust.covariates is None):
+            return self.two_pass(*args, adjust=adjust)
+        return OnePass(iter(self.scanner(*args, adjust=adjust)), len(s.columns))
+
+    @on(ColumnOpened)
+    def _opened(self, message: ColumnOpened) -> None:
+        stream = self._stream
+        if stream is not None and self.scan_kind == FIRST:
+            stream.prioritise(message.column)
 
     @on(ScanProgress)
     def _scanned(self, message: ScanProgress) -> None:
         if message.run == self._run:
             self._first_results(message.ranked, False)
             self.triage.scan_progress(message.done, message.total, False, None)
+
+    @on(ScoresDone)
+    def _scores_done(self, message: ScoresDone) -> None:
+        if message.run == self._run:
+            self._first_results(message.ranked, True)
+            self.triage.scan_progress(message.total, message.total, False, None, forms=0)
+
+    @on(FormsProgress)
+    def _forms_fitted(self, message: FormsProgress) -> None:
+        if message.run == self._run:
+            self._first_results(message.ranked, True)
+            self.triage.scan_progress(message.total, message.total, False, None, forms=message.done)
+            self._scores_changed()  # an open column's best form and shape may be in
 
     @on(ScanDone)
     def _scan_done(self, message: ScanDone) -> None:
@@ -166,10 +201,11 @@ class ReviewApp(App[None]):
             self._first_results(message.ranked, True)
             self.triage.scan_progress(len(message.ranked), message.total, True, None)
 
-    def _first_results(self, ranked: list[ColumnScan], finished: bool) -> None:
+    def _first_results(self, ranked: list[ColumnScan], scored: bool) -> None:
+        """``scored``: every column's score is in (q-values final; forms may follow)."""
         self.session.ranked = ranked
         self.session.first_ranked = ranked
-        self.session.scan_finished = finished
+        self.session.scan_finished = scored
 
     # --- re-scores in the working model ---------------------------------------------------
 

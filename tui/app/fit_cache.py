@@ -17,8 +17,9 @@ from tui.app.basis import Basis
 from tui.engine.adjust import Adjustment
 from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
+from tui.engine.exact_score import exact_score
 from tui.engine.forms.indicator import BELOW
-from tui.engine.scan import ScanSettings, reduce_for_scan
+from tui.engine.scan import ColumnScan, ScanSettings, reduce_for_scan
 from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, SelectionShares, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset
 
@@ -83,6 +84,7 @@ class FitCache:
         self._row_counts: OrderedDict[tuple[str, Basis], ReducedCounts] = OrderedDict()
         self._row_fits: OrderedDict[FitRequest, ColumnFits] = OrderedDict()
         self._shares: dict[FitRequest, SelectionShares | None] = {}
+        self._exact: dict[tuple[str, ScanSettings], ColumnScan | None] = {}
 
     def cached(self, request: FitRequest) -> ColumnFits | None:
         """The fits if already computed."""
@@ -151,6 +153,19 @@ class FitCache:
         with self._lock:
             self._shares[request] = result
         return result
+
+    def exact_score(self, column: str, settings: ScanSettings) -> ColumnScan | None:
+        """The score of a column the scan binned, refitted on every distinct value (the
+        engine's ``exact_score``; None when too many values). Call it from a worker."""
+        key = (column, settings)
+        with self._lock:
+            if key in self._exact:
+                return self._exact[key]
+        x = self._dataset.raw_values(column)
+        found = exact_score(x, self._dataset.outcome.y, settings, column)
+        with self._lock:
+            self._exact[key] = found
+        return found
 
 
 def _keep_recent(kept: OrderedDict, key: object, value: object) -> None:

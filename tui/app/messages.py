@@ -19,12 +19,37 @@ class ScanProgress(Message):
         self.ranked, self.done, self.total, self.run = ranked, done, total, run
 
 
-class ScanDone(Message):
-    """The first scan has scored every column."""
+class ScoresDone(Message):
+    """The first pass of the first scan is over: every column's score and q-value are in;
+    the best forms follow (``FormsProgress``)."""
 
     def __init__(self, ranked: list[ColumnScan], total: int, run: int) -> None:
         super().__init__()
         self.ranked, self.total, self.run = ranked, total, run
+
+
+class FormsProgress(Message):
+    """The second pass of the first scan has fitted the forms of more columns."""
+
+    def __init__(self, ranked: list[ColumnScan], done: int, total: int, run: int) -> None:
+        super().__init__()
+        self.ranked, self.done, self.total, self.run = ranked, done, total, run
+
+
+class ScanDone(Message):
+    """The first scan has scored every column (and fitted every column's forms)."""
+
+    def __init__(self, ranked: list[ColumnScan], total: int, run: int) -> None:
+        super().__init__()
+        self.ranked, self.total, self.run = ranked, total, run
+
+
+class ColumnOpened(Message):
+    """A column screen shows this column: its forms are fitted next if still queued."""
+
+    def __init__(self, column: str) -> None:
+        super().__init__()
+        self.column = column
 
 
 class RescoreStarted(Message):

@@ -6,7 +6,7 @@ counts). The screens' own state (list order, typed numbers, draft notes) is a
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from tui.app.basis import Adjustments, Basis
@@ -31,7 +31,7 @@ from tui.intake.dataset import (
     open_dataset,
     require_numeric,
 )
-from tui.intake.profile import ColumnProfile
+from tui.intake.profile import ColumnProfile, profile_column
 from tui.intake.weights import FREQUENCY
 from tui.recodings.decisions import (
     KEPT_LINEAR,
@@ -79,7 +79,8 @@ class ReviewSession:
     ranked: list[ColumnScan] = field(default_factory=list)
     """Scan results so far, most non-linear first."""
     scan_finished: bool = False
-    """All columns scanned: q-values and shape hints are final."""
+    """Every column scored: q-values are final (a column's shape hint is final once its
+    forms are fitted, ``ColumnScan.forms_fitted``; the second pass may still run)."""
     adjust: tuple[str, ...] = ()
     """Covariates asked for on the command line (``--adjust``): in every fit."""
     weight: str | None = None
@@ -102,7 +103,13 @@ class ReviewSession:
     screens only, kept here so every screen of the review sees the same one."""
 
     def __post_init__(self) -> None:
-        self._profiles: dict[str, ColumnProfile] = {p.name: p for p in self.dataset.numeric}
+        # A columnar file's profiles are read when a column is first shown: reading every
+        # column before the list opens takes seconds at thousands of columns.
+        self._profiles: dict[str, ColumnProfile] = (
+            {}
+            if isinstance(self.dataset, ColumnarDataset)
+            else {p.name: p for p in self.dataset.numeric}
+        )
         self.adjustments = Adjustments(
             self.dataset, self.dataset.outcome.column, self.weight, self.weight_kind
         )
@@ -137,7 +144,13 @@ class ReviewSession:
 
     def profile_of(self, column: str) -> ColumnProfile:
         """Counts and range of the column's values."""
-        return self._profiles[column]
+        found = self._profiles.get(column)
+        if found is None:
+            if column not in self.dataset.columns:
+                raise KeyError(column)
+            found = profile_column(self.dataset.series(column), column)
+            self._profiles[column] = found
+        return found
 
     def decision_word(self, column: str) -> str:
         """``undecided``, ``kept linear``, ``set aside`` or the accepted form."""
@@ -323,6 +336,8 @@ class ReviewSession:
         basis = self.basis_of(column) if basis is None else basis
         # The score is evidence only when it came from the same design as the row.
         scan = self.scan_of(column) if self.basis_of(column) == basis else None
+        if scan is not None and not scan.forms_fitted:
+            scan = replace(scan, shape=None)  # a first-pass hint: no threshold seen yet
         design = Design(
             self.adjusted_for(column, basis),
             self.describe_basis(column, basis),

@@ -373,6 +373,20 @@ def scan_column(
     return scan_reduced(column, reduce_for_scan(x, y, settings, adjust, column), settings)
 
 
+def with_q_value(scan: ColumnScan, q_value: float) -> ColumnScan:
+    """The column's result with its q-value (``rank``'s rule: at least ``Q_LINEAR`` reads
+    as ``linear``). A second-pass result takes the q-value its first-pass score got."""
+    shape = LINEAR if q_value >= Q_LINEAR else scan.shape
+    return replace(scan, q_value=float(q_value), shape=shape)
+
+
+def evidence_order(scan: ColumnScan) -> tuple[int, float, float, str]:
+    """Sort key of ``rank``: scored columns by p-value, larger score first, then name."""
+    if scan.p_value is None:
+        return (1, 0.0, 0.0, scan.column)
+    return (0, scan.p_value, -(scan.score or 0.0), scan.column)
+
+
 def rank(scans: Iterable[ColumnScan]) -> list[ColumnScan]:
     """Add q-values across scored columns and sort, most non-linear first.
 
@@ -382,12 +396,5 @@ def rank(scans: Iterable[ColumnScan]) -> list[ColumnScan]:
     scored = [i for i, s in enumerate(scans) if s.p_value is not None]
     q = bh_qvalues([scans[i].p_value for i in scored])  # type: ignore[misc]
     for i, qv in zip(scored, q, strict=True):
-        shape = LINEAR if qv >= Q_LINEAR else scans[i].shape
-        scans[i] = replace(scans[i], q_value=float(qv), shape=shape)
-
-    def key(s: ColumnScan) -> tuple[int, float, float, str]:
-        if s.p_value is None:
-            return (1, 0.0, 0.0, s.column)
-        return (0, s.p_value, -(s.score or 0.0), s.column)
-
-    return sorted(scans, key=key)
+        scans[i] = with_q_value(scans[i], qv)
+    return sorted(scans, key=evidence_order)

@@ -6,6 +6,7 @@ naming the file, so the command line can print one line instead of a traceback.
 
 from __future__ import annotations
 
+import json
 import os
 import threading
 import warnings
@@ -155,6 +156,7 @@ class _OpenParquet:
         self._key: tuple[str, int, int, int] | None = None
         self._file: Any = None
         self._names: list[str] = []
+        self._pandas: dict | None = None
 
     def column(self, file: Path, name: str) -> pd.Series:
         stat = file.stat()
@@ -163,14 +165,28 @@ class _OpenParquet:
             if self._key != key:
                 self._key, self._file = None, None
                 self._file, self._names = _attempt(file, "Parquet", lambda: _parquet_open(file))
+                self._pandas = _attempt(
+                    file, "Parquet", lambda: self._file.schema_arrow.pandas_metadata
+                )
                 self._key = key
             _require_columns(file, [name], self._names)
-            opened = self._file
+            opened, pandas = self._file, self._pandas
             table = _attempt(
-                file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=True)
+                file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=False)
             )
+            # The file's pandas metadata names every column: parsed for each read, it
+            # costs more than the read itself at thousands of columns. Keep this one's.
+            table = table.replace_schema_metadata(_one_column_metadata(pandas, name))
             frame = _attempt(file, "Parquet", table.to_pandas)
         return _tidy(frame)[name]
+
+
+def _one_column_metadata(pandas: dict | None, name: str) -> dict[bytes, bytes] | None:
+    """The file's pandas metadata cut down to one column (no index: rows stay in order)."""
+    if pandas is None:
+        return None
+    columns = [c for c in pandas.get("columns", []) if c.get("field_name") == name]
+    return {b"pandas": json.dumps({**pandas, "columns": columns, "index_columns": []}).encode()}
 
 
 def _parquet_open(file: Path) -> tuple[Any, list[str]]:

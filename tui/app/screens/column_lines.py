@@ -71,7 +71,8 @@ def score_line(
     if scan is not None and scan.score is not None:
         score = f"score {number_text(scan.score)} on {scan.df} df"
         if scan_finished:
-            parts.append(f"{score} · q {p_text(scan.q_value)} · {scan.shape or '-'}")
+            shape = (scan.shape or "-") if scan.forms_fitted else "shape with the forms"
+            parts.append(f"{score} · q {p_text(scan.q_value)} · {shape}")
         else:
             parts.append(f"{score} · q and shape when the scan ends")
     elif scan is not None:

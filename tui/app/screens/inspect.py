@@ -14,7 +14,7 @@ from textual.widgets import DataTable, Footer
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
-from tui.app.messages import FitsReady, LogChanged, ScoresChanged
+from tui.app.messages import ColumnOpened, FitsReady, LogChanged, ScoresChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens import missing_hooks
 from tui.app.screens.column_lines import (
@@ -39,6 +39,7 @@ from tui.app.screens.share_line import SharesHook, share_line
 from tui.app.session import LogNotSaved, ReviewSession
 from tui.app.text import path_text
 from tui.app.view_state import ReviewView
+from tui.app.widgets.exactness_line import ExactnessLine
 from tui.app.widgets.forms_table import FormsTable, form_text, power_words, row_notes
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
@@ -92,6 +93,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         yield Line("", id="heading")
         yield Line("", id="evidence")
         yield Line("", id="counts")
+        yield ExactnessLine(id="exactness")
         yield Line("", id="adjusted")
         with Horizontal(id="picture"):
             yield LogitPlot(id="plot")
@@ -147,6 +149,8 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self.fits = None
         self._want_key = None  # a new column starts on its first form
         self.query_one(FormsTable).show_rows([])
+        self.query_one(ExactnessLine).show(None, self.cache, self.session.settings, None)
+        self.post_message(ColumnOpened(column))  # its forms jump the scan's queue
         self._refresh_heading()
         self._load()
 
@@ -202,6 +206,8 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self._refresh_heading()
         self._refresh_row()
         missing_hooks.show_panel(self, self.session, self.column, fits)
+        s = self.session
+        self.query_one(ExactnessLine).show(fits, self.cache, s.settings, s.scan_of(self.column))
 
     def _accepted(self) -> Recoding | None:
         decision = self.session.log.decision_for(self.column)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from collections.abc import Sequence
 
 from textual import events, on
@@ -21,7 +22,7 @@ from tui.app.session import ReviewSession
 from tui.app.text import number_text
 from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
-from tui.app.widgets.triage_table import TriageTable
+from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
 from tui.table_rules import best_words
 
@@ -29,6 +30,9 @@ SORTS = ("evidence", "name", "ΔAIC", "file order")
 """Orders of the list, in the order the sort key steps through them."""
 REFRESH_SECONDS = 0.2
 """While the scan runs, the list is redrawn at most this often."""
+REDRAW_SHARE = 0.25
+"""...and at most this share of the time: a list of thousands of columns takes a while to
+redraw, and keys must still answer while the second pass fills it in."""
 
 
 def arrange(
@@ -97,6 +101,7 @@ class TriageScreen(Screen[None]):
         self._rescoring = False  # a working-model re-score is under way
         self._follow_top = True  # while the scan runs, until a key moves the cursor
         self._opening_filter = False
+        self._redraw_cost = 0.0  # seconds the last redraw took
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -135,11 +140,20 @@ class TriageScreen(Screen[None]):
     # --- the scan reports here (from the app) ---------------------------------------------
 
     def scan_progress(
-        self, done: int, total: int, finished: bool, problem: str | None, model: bool = False
+        self,
+        done: int,
+        total: int,
+        finished: bool,
+        problem: str | None,
+        model: bool = False,
+        forms: int | None = None,
     ) -> None:
         """New scan results are in the session: update the bar now, the list soon.
-        ``model``: the scan re-scores undecided columns in the working model."""
-        self.query_one("#scan-bar", ProgressBar).update(total=total, progress=done)
+        ``model``: the scan re-scores undecided columns in the working model; ``forms``:
+        the first pass is over and this many columns have their best form (the bar
+        follows the second pass)."""
+        bar = self.query_one("#scan-bar", ProgressBar)
+        bar.update(total=total, progress=done if forms is None else forms)
         skipped = [p.name for p in self.session.dataset.skipped]
         covariates = len(self.session.model or ())
         self._rescoring = model and not finished and problem is None
@@ -160,6 +174,8 @@ class TriageScreen(Screen[None]):
                 self._scan_text += f"; {zero} rows weigh 0 (left out)"
             if skipped:
                 self._scan_text += f"; not numeric: {', '.join(skipped)}"
+        elif forms is not None:
+            self._scan_text = f"{total} scored · best forms {forms}/{total} (ΔAIC fills in)"
         else:
             self._scan_text = f"{done}/{total} columns scanned (q-values at the end)"
         self.query_one("#scanned", Line).update(self._scan_text)
@@ -170,8 +186,11 @@ class TriageScreen(Screen[None]):
                 self._redraw_timer = None
             self.redraw()
             self._follow_top = False
+        elif forms == 0:
+            self.redraw()  # the first pass is over: q-values and the final order now
         elif self._redraw_timer is None:
-            self._redraw_timer = self.set_timer(REFRESH_SECONDS, self._timed_redraw)
+            wait = max(REFRESH_SECONDS, self._redraw_cost / REDRAW_SHARE)
+            self._redraw_timer = self.set_timer(wait, self._timed_redraw)
 
     def _timed_redraw(self) -> None:
         self._redraw_timer = None
@@ -181,6 +200,7 @@ class TriageScreen(Screen[None]):
 
     def redraw(self) -> None:
         """Rebuild the list from the session."""
+        started = time.perf_counter()
         s = self.session
         hide = {c for c in s.columns if s.is_decided(c)} if self.hide_decided else set()
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
@@ -208,6 +228,7 @@ class TriageScreen(Screen[None]):
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
         self.query_one("#summary", Line).update(" · ".join(parts))
         self._describe_highlighted()
+        self._redraw_cost = time.perf_counter() - started
 
     def _model_hint(self) -> str:
         """The working-model keys, named when they would do something."""
@@ -228,7 +249,7 @@ class TriageScreen(Screen[None]):
             empty = "no column matches" if self.session.ranked else "waiting for the first column…"
             detail.update(empty)
             return
-        best = best_words(scan.best_form, scan.delta_aic)
+        best = best_words(scan.best_form, scan.delta_aic) if scan.forms_fitted else PENDING
         basis = ""
         if self.query_one(TriageTable).adjusted_shown:
             named = ", ".join(scan.adjusted_for)

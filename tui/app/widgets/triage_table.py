@@ -13,7 +13,8 @@ from tui.recodings.decisions import KEPT_LINEAR, SET_ASIDE, UNDECIDED
 from tui.table_rules import best_words
 
 PENDING = "…"
-"""Shown for q-values and shape hints until every column is scanned."""
+"""Shown for q-values until every column is scored, and for shape hints, best forms and
+ΔAIC until the column's forms are fitted."""
 
 DECISION_MARKS = {UNDECIDED: " ", KEPT_LINEAR: "=", SET_ASIDE: "×"}
 """Mark before a column name; any accepted form is ✓."""
@@ -36,8 +37,10 @@ def decision_mark(word: str) -> str:
 
 def scan_row(scan: ColumnScan, word: str, final: bool) -> Row:
     """A table row for one scanned column, keyed by its name: ``word`` is its decision,
-    ``final`` says the scan has ended (q-values and shapes are known)."""
+    ``final`` says every score is in (q-values known; a shape once the column's forms are,
+    in the second pass)."""
     mark = decision_mark(word) + (FLAG_MARK if scan.flags else " ")
+    shown = final and scan.forms_fitted  # a threshold is known only once the forms are
     return scan.column, {
         "name": f"{mark} {scan.column}",
         "n": str(scan.n),
@@ -47,9 +50,9 @@ def scan_row(scan: ColumnScan, word: str, final: bool) -> Row:
         "adj": adjustment_mark(scan),
         "adjusted": ", ".join(scan.adjusted_for) or UNADJUSTED,
         "q": p_text(scan.q_value) if final else PENDING,
-        "shape": (scan.shape or "-") if final else (PENDING if scan.score is not None else "-"),
-        "best": best_words(scan.best_form, scan.delta_aic),
-        "delta_aic": number_text(scan.delta_aic),
+        "shape": (scan.shape or "-") if shown else (PENDING if scan.score is not None else "-"),
+        "best": best_words(scan.best_form, scan.delta_aic) if scan.forms_fitted else PENDING,
+        "delta_aic": number_text(scan.delta_aic) if scan.forms_fitted else PENDING,
         "flags": ", ".join(scan.flags) or "-",
         "decision": word,
     }

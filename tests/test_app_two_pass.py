@@ -25,6 +25,7 @@ from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.spline import KNOT_PERCENTILES, spline_basis
 from tui.engine.two_pass import TwoPassScan
+from tui.table_rules import best_words
 
 SIZE = (120, 30)
 LOG = "fleet.recodings.json"
@@ -149,8 +150,9 @@ def test_best_forms_fill_in_as_the_one_pass_scan_gives_them(folder: Path) -> Non
                     same.delta_aic,
                     same.score,
                 )
-                if scan.best_form is not None:
-                    assert scan.best_form in row_text(table, scan.column)
+                if scan.best_form is not None:  # named only when it beats linear by 2 AIC
+                    words = best_words(scan.best_form, scan.delta_aic)
+                    assert words in row_text(table, scan.column)
                 assert PENDING not in row_text(table, scan.column)
 
     asyncio.run(go())

@@ -95,7 +95,8 @@ def parse_strict(text: str, source: str = "<log>") -> Any:
     try:
         return json.loads(text, parse_constant=_NonFinite, object_pairs_hook=_object)
     except json.JSONDecodeError as exc:
-        if exc.pos >= len(text.rstrip()):
+        # A string that never closes runs to the end of the text: cut off, like the rest.
+        if exc.pos >= len(text.rstrip()) or exc.msg.startswith("Unterminated string"):
             raise LogProblem(
                 source, "", "ends early: the JSON is incomplete (truncated?)"
             ) from None

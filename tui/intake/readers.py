@@ -185,9 +185,9 @@ class _OpenParquet:
             if schema.get_all_field_indices(name) != [schema.get_field_index(name)]:
                 return None  # repeated name: left to the general reader's message
             kind = schema.field(name).type
-            if not (pa.types.is_integer(kind) or pa.types.is_floating(kind)):
-                if not pa.types.is_boolean(kind):
-                    return None
+            numbers = pa.types.is_integer(kind) or pa.types.is_floating(kind)
+            if not (numbers or pa.types.is_boolean(kind)):
+                return None
             table = _attempt(
                 file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=False)
             )

@@ -9,6 +9,7 @@ from __future__ import annotations
 import os
 import threading
 import warnings
+from collections import Counter
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any, TypeVar
@@ -163,6 +164,7 @@ class _OpenParquet:
         self._key: tuple[str, int, int, int] | None = None
         self._file: Any = None
         self._names: list[str] = []
+        self._types: dict[str, Any] = {}
 
     def column(self, file: Path, name: str) -> pd.Series:
         with self._lock:
@@ -181,10 +183,9 @@ class _OpenParquet:
         with self._lock:
             opened = self._open(file)
             _require_columns(file, [name], self._names)
-            schema = opened.schema_arrow
-            if schema.get_all_field_indices(name) != [schema.get_field_index(name)]:
-                return None  # repeated name: left to the general reader's message
-            kind = schema.field(name).type
+            kind = self._types.get(name)  # None for a repeated name: the general reader's
+            if kind is None:
+                return None
             numbers = pa.types.is_integer(kind) or pa.types.is_floating(kind)
             if not (numbers or pa.types.is_boolean(kind)):
                 return None
@@ -202,6 +203,11 @@ class _OpenParquet:
         if self._key != key:
             self._key, self._file = None, None
             self._file, self._names = _attempt(file, "Parquet", lambda: _parquet_open(file))
+            # Stored types once: the schema is built anew each time it is asked for.
+            schema = self._file.schema_arrow
+            found = [(field.name, field.type) for field in schema]
+            seen = Counter(name for name, _ in found)
+            self._types = {name: kind for name, kind in found if seen[name] == 1}
             self._key = key
         return self._file
 

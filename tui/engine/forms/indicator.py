@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -16,11 +16,11 @@ from tui.engine.forms.base import (
     Recoding,
     RecodingError,
     check_number,
-    search,
     sql_number,
     words_number,
 )
 from tui.engine.forms.cutpoints import cut_candidates
+from tui.engine.forms.search import learned_by_search
 
 
 class IndicatorKind(Kind):
@@ -35,6 +35,10 @@ class IndicatorKind(Kind):
 
     def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
         return (x < float(params["cut"])).astype(float)[:, None]
+
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        cuts = np.array([float(p["cut"]) for p in params])
+        return (x[None, :] < cuts[:, None]).astype(float)[:, :, None]
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["below"]
@@ -81,4 +85,4 @@ class IndicatorCandidate(Candidate):
         options = [Recoding(INDICATOR, {"cut": c}) for c in cut_candidates(counts)]
         if not options:
             raise RecodingError("too few distinct values to place a cut point")
-        return Learned(search(options, counts), searched=True)
+        return learned_by_search(options, counts)

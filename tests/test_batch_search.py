@@ -15,11 +15,12 @@ from tui.engine.batch_fit import fit_stack
 from tui.engine.compare import fit_candidate
 from tui.engine.counts import reduce_column
 from tui.engine.fitting import fit_logistic
-from tui.engine.forms import base
-from tui.engine.forms.base import Recoding, design_matrix, fit_on_counts, search_singly
+from tui.engine.forms import search as searching
+from tui.engine.forms.base import Learned, Recoding, design_matrix, fit_on_counts
 from tui.engine.forms.fracpoly import FP2, POWERS, Fp1Candidate, Fp2Candidate
 from tui.engine.forms.hinge import HingeCandidate
 from tui.engine.forms.indicator import IndicatorCandidate
+from tui.engine.forms.search import search_singly, stacked_designs
 
 SEARCHED = (Fp1Candidate, Fp2Candidate, HingeCandidate, IndicatorCandidate)
 
@@ -43,6 +44,10 @@ def _columns(rng):
     return out
 
 
+def _singly(recodings, counts):
+    return Learned(search_singly(recodings, counts), searched=True)
+
+
 @pytest.mark.parametrize("exact_below", [0, 10**9])  # binned and exact counts
 def test_stacked_search_chooses_as_one_at_a_time(rng, monkeypatch, exact_below):
     for x, y in _columns(rng):
@@ -50,9 +55,9 @@ def test_stacked_search_chooses_as_one_at_a_time(rng, monkeypatch, exact_below):
         for make in SEARCHED:
             stacked = fit_candidate(make(), counts)
             with monkeypatch.context() as patch:
-                patch.setattr(base, "_stacked_keys", None)  # any use would fail loudly
+                patch.setattr(searching, "_stacked_keys", None)  # any use would fail loudly
                 for module in ("fracpoly", "hinge", "indicator"):
-                    patch.setattr(f"tui.engine.forms.{module}.search", search_singly)
+                    patch.setattr(f"tui.engine.forms.{module}.learned_by_search", _singly)
                 single = fit_candidate(make(), counts)
             assert stacked.recoding == single.recoding, make.__name__
             assert stacked.status == single.status
@@ -90,3 +95,39 @@ def test_unsettled_members_are_left_to_the_single_fit():
     stack = fit_stack(np.stack([design, design]), events, trials)
     assert not stack.settled.any()
     assert fit_logistic(design, events, trials).separated
+
+
+@pytest.mark.parametrize("exact_below", [0, 10**9])
+def test_stacked_designs_are_the_members_designs_bit_for_bit(rng, exact_below):
+    # The kinds build a whole search's designs at once; each must be its design_matrix.
+    from tui.engine.forms.fracpoly import FP1
+    from tui.engine.forms.hinge import HINGE
+    from tui.engine.forms.indicator import INDICATOR
+
+    for x, y in _columns(rng)[:3]:
+        counts = reduce_column(x, y, exact_below=exact_below)
+        shift = float(max(0.0, 1.0 - counts.x.min()))
+        cuts = list(np.quantile(counts.x, [0.1, 0.3, 0.5, 0.9]))
+        searches = [
+            [Recoding(FP1, {"power": p, "shift": shift}) for p in POWERS],
+            [
+                Recoding(FP2, {"powers": [p1, p2], "shift": shift})
+                for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
+            ],
+            [Recoding(HINGE, {"knot": c}) for c in cuts],
+            [Recoding(INDICATOR, {"cut": c}) for c in cuts],
+        ]
+        for recodings in searches:
+            stacked = stacked_designs(recodings, counts.x)
+            one_by_one = np.stack([design_matrix(r, counts.x) for r in recodings])
+            np.testing.assert_array_equal(stacked, one_by_one)
+
+
+def test_the_search_fit_is_the_fit_of_the_chosen_member(rng):
+    x, y = _columns(rng)[0]
+    counts = reduce_column(x, y)
+    for make in SEARCHED:
+        learned = make().learn(counts)
+        assert learned.fit is not None
+        again = fit_on_counts(learned.recoding, counts)
+        assert learned.fit.llf == again.llf and np.array_equal(learned.fit.coef, again.coef)

@@ -17,7 +17,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special
 
 _MAX_ITER = 50
 _RANK_MARGIN = 1e-6
@@ -88,18 +87,50 @@ def _scaled(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
 
 
 def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
-    """Members whose weighted design is far from dependent columns."""
-    if zt.shape[2] < zt.shape[1]:
-        return np.zeros(zt.shape[0], dtype=bool)
-    weighted = zt * np.sqrt(np.maximum(trials, 0))
-    r = np.linalg.qr(weighted.transpose(0, 2, 1), mode="r")
-    diag = np.abs(np.diagonal(r, axis1=1, axis2=2))
-    top = np.maximum(1.0, diag.max(axis=1))
-    return (diag > _RANK_MARGIN * top[:, None]).all(axis=1)
+    """Members whose weighted design is far from dependent columns: every diagonal entry
+    of R (QR of the weighted design) above ``_RANK_MARGIN`` of the largest.
+
+    R's diagonal is that of the Cholesky factor of the weighted Gram matrix, several times
+    cheaper to get; the Gram matrix squares the rounding, so only members it puts clear of
+    the margin (by a factor of 100, far beyond that rounding) are taken from it, and the
+    rest are decided by the QR itself.
+    """
+    k, p, m = zt.shape
+    if m < p:
+        return np.zeros(k, dtype=bool)
+    w = np.maximum(trials, 0)
+    try:
+        gram = (zt * w) @ zt.transpose(0, 2, 1)
+        diag = np.diagonal(np.linalg.cholesky(gram), axis1=1, axis2=2)
+        top = np.maximum(1.0, diag.max(axis=1))
+        clear = (diag > 100 * _RANK_MARGIN * top[:, None]).all(axis=1)
+    except np.linalg.LinAlgError:  # some member not numerically positive definite
+        clear = np.zeros(k, dtype=bool)
+    full = clear.copy()
+    unsure = np.flatnonzero(~clear)
+    if unsure.size:
+        weighted = zt[unsure] * np.sqrt(w)
+        r = np.linalg.qr(weighted.transpose(0, 2, 1), mode="r")
+        diag = np.abs(np.diagonal(r, axis1=1, axis2=2))
+        top = np.maximum(1.0, diag.max(axis=1))
+        full[unsure] = (diag > _RANK_MARGIN * top[:, None]).all(axis=1)
+    return full
 
 
 def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> np.ndarray:
-    return eta @ events - np.logaddexp(0.0, eta) @ trials
+    # ln(1 + e^eta) as max(eta, 0) + ln(1 + e^-|eta|): several times faster than logaddexp,
+    # equal to rounding (the stack only ranks; single fits give the figures).
+    soft = np.log1p(np.exp(-np.abs(eta)))
+    soft += np.maximum(eta, 0.0)
+    return eta @ events - soft @ trials
+
+
+def _expit(eta: np.ndarray) -> np.ndarray:
+    """1 / (1 + e^-eta), several times faster than scipy's expit; equal to rounding."""
+    with np.errstate(over="ignore"):
+        out = np.exp(-eta)
+    out += 1.0
+    return np.reciprocal(out, out=out)
 
 
 def _newton(
@@ -128,7 +159,7 @@ def _newton(
     beta[:, 0, 0] = np.log(pbar / (1 - pbar))
     eta = np.full((k, m), beta[0, 0, 0])
     for _ in range(_MAX_ITER):
-        mu = special.expit(eta)
+        mu = _expit(eta)
         fitted = trials * mu
         grad = za @ (events - fitted)[:, :, None]
         hess = (za * (fitted * (1.0 - mu))[:, None, :]) @ za.transpose(0, 2, 1)

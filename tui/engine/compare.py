@@ -151,7 +151,7 @@ def fit_candidate(
     """Learn and fit one candidate; a failure is a status, never an exception."""
     try:
         learned = candidate.learn(counts)
-        fit = fit_on_counts(learned.recoding, counts)
+        fit = learned.fit if learned.fit is not None else fit_on_counts(learned.recoding, counts)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
         return _failed(candidate, str(problem))
     if fit.rank_deficient:

@@ -20,7 +20,7 @@ import pandas as pd
 
 from tui.intake.outcome import CodedOutcome, code_outcome
 from tui.intake.profile import ColumnProfile, numeric_values, profile_column, profile_frame
-from tui.intake.readers import list_columns, read_column, read_table
+from tui.intake.readers import list_columns, read_column, read_floats, read_table
 from tui.names import shown_name
 from tui.problems import InputProblem
 
@@ -139,7 +139,11 @@ class ColumnarDataset:
 
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
-        return _raw_floats(self._kept(column))
+        floats = read_floats(self.path, column)  # numbers stored in Parquet: no DataFrame
+        if floats is None:
+            return _raw_floats(self._kept(column))
+        keep = self.outcome.keep
+        return floats if keep.all() else floats[keep]
 
     def series(self, column: str) -> pd.Series:
         """One column as stored, for the kept rows (text covariates, weights)."""

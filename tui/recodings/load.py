@@ -14,13 +14,14 @@ from collections.abc import Iterator, Mapping
 from functools import cache
 from importlib import resources
 from pathlib import Path
-from typing import Any
-
-import jsonschema
+from typing import TYPE_CHECKING, Any
 
 from tui.recodings.codec import from_document
 from tui.recodings.errors import EntryProblem, LogProblem, entry_path
 from tui.recodings.model import FORMAT, FORMAT_VERSION, RecodingLog
+
+if TYPE_CHECKING:
+    import jsonschema
 
 _JSON_TYPES = {
     dict: "an object",
@@ -169,6 +170,8 @@ def _check_format(document: Mapping[str, Any]) -> None:
 
 @cache
 def _validator() -> jsonschema.Draft202012Validator:
+    import jsonschema  # only reading a log needs it: the scan command starts faster
+
     schema = json.loads(resources.files("tui.recodings").joinpath("schema.json").read_text())
     return jsonschema.Draft202012Validator(schema)
 

@@ -13,13 +13,12 @@ from __future__ import annotations
 
 import math
 from abc import ABC, abstractmethod
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any, ClassVar
 
 import numpy as np
 
-from tui.engine.batch_fit import fit_stack
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit, fit_logistic
 
@@ -100,6 +99,11 @@ class Kind(ABC):
     @abstractmethod
     def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
         """Output columns (rows × outputs) for finite x."""
+
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        """Outputs of many parameter sets on the same finite x (sets × rows × outputs), the
+        same numbers as ``apply`` set by set; kinds that search override it to share work."""
+        return np.stack([self.apply(p, x) for p in params])
 
     @abstractmethod
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
@@ -306,6 +310,9 @@ class Learned:
     """A cut point or power was chosen from the data (p-values optimistic)."""
     remarks: tuple[str, ...] = ()
     """What learning had to change from what was asked (e.g. fewer knots than asked)."""
+    fit: LogisticFit | None = field(default=None, compare=False, repr=False)
+    """The recoding's fit on the training counts when the search made it (the same fit
+    ``fit_on_counts`` gives), so it is not fitted twice."""
 
     @property
     def df(self) -> int:
@@ -380,69 +387,3 @@ def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
     if not np.all(np.isfinite(design)):
         raise RecodingError("the form gives non-finite values on the training data")
     return fit_logistic(design, counts.events, counts.trials)
-
-
-def search(recodings: list[Recoding], counts: ReducedCounts) -> Recoding:
-    """The recoding with the highest likelihood on the counts (first wins ties).
-
-    Separated or non-converged members lose to any usable one. On reduced counts the
-    members are fitted as one stack (``tui.engine.batch_fit``); the choice is the same as
-    fitting them one at a time, since every member near the top, and every member the
-    stack cannot settle, is fitted alone before choosing.
-    """
-    if counts.covariates is None and len(recodings) > 2:
-        return _choose(recodings, _stacked_keys(recodings, counts))
-    return search_singly(recodings, counts)
-
-
-def search_singly(recodings: list[Recoding], counts: ReducedCounts) -> Recoding:
-    """``search`` fitting one member at a time (row-level adjusted counts; the reference
-    the stacked search is tested against)."""
-    keys: list[tuple[bool, float] | None] = []
-    for rec in recodings:
-        try:
-            fit = fit_on_counts(rec, counts)
-        except RecodingError:
-            keys.append(None)
-            continue
-        keys.append((fit.ok, fit.llf))
-    return _choose(recodings, keys)
-
-
-def _stacked_keys(
-    recodings: list[Recoding], counts: ReducedCounts
-) -> list[tuple[bool, float] | None]:
-    """(usable, log-likelihood) of every member, None where the form cannot be applied."""
-    designs = [design_matrix(rec, counts.x) for rec in recodings]
-    finite = [bool(np.all(np.isfinite(d))) for d in designs]
-    keys: list[tuple[bool, float] | None] = [None] * len(recodings)
-    at = [i for i, f in enumerate(finite) if f]
-    shapes = {designs[i].shape for i in at}
-    if not at or len(shapes) != 1:
-        for i in at:
-            fit = fit_on_counts(recodings[i], counts)
-            keys[i] = (fit.ok, fit.llf)
-        return keys
-    stack = fit_stack(np.stack([designs[i] for i in at]), counts.events, counts.trials)
-    top = max((float(ll) for ll in stack.llf[stack.settled]), default=-np.inf)
-    window = 1e-7 * (abs(top) + 1.0)
-    for i, ok, ll in zip(at, stack.settled, stack.llf, strict=True):
-        if ok and ll < top - window:
-            keys[i] = (True, float(ll))  # far below the best: its exact value cannot matter
-        else:
-            fit = fit_on_counts(recodings[i], counts)
-            keys[i] = (fit.ok, fit.llf)
-    return keys
-
-
-def _choose(recodings: list[Recoding], keys: list[tuple[bool, float] | None]) -> Recoding:
-    """The first member with the best key, a usable fit beating any unusable one."""
-    best: tuple[bool, float, Recoding] | None = None
-    for rec, key in zip(recodings, keys, strict=True):
-        if key is None:
-            continue
-        if best is None or key[0] > best[0] or (key[0] == best[0] and key[1] > best[1] + 1e-9):
-            best = (key[0], key[1], rec)
-    if best is None:
-        raise RecodingError("no member of the search could be fitted")
-    return best[2]

@@ -8,7 +8,7 @@ included.
 from __future__ import annotations
 
 import itertools
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -22,11 +22,11 @@ from tui.engine.forms.base import (
     Recoding,
     RecodingError,
     check_shift,
-    search,
     words_number,
     words_shift,
 )
 from tui.engine.forms.log import safe_log, shifted_sql
+from tui.engine.forms.search import learned_by_search
 from tui.engine.forms.shift import learn_shift
 
 POWERS = (-2.0, -1.0, -0.5, 0.0, 0.5, 1.0, 2.0, 3.0)
@@ -40,6 +40,21 @@ def fp_power(z: np.ndarray, p: float) -> np.ndarray:
     pos = z > 0
     out[pos] = np.power(z[pos], p)
     return out
+
+
+def _powers_of(x: np.ndarray, params: Sequence[Mapping[str, Any]]) -> Any:
+    """power(shift, p): fp_power(x + shift, p) (``"ln"``: safe_log(x + shift)), each
+    computed once for a whole search; the same numbers as computing it member by member."""
+    cache: dict[tuple[float, float | str], np.ndarray] = {}
+
+    def power(shift: Any, p: float | str) -> np.ndarray:
+        key = (float(shift), p if p == "ln" else float(p))
+        if key not in cache:
+            z = x + key[0]
+            cache[key] = safe_log(z) if p == "ln" else fp_power(z, float(p))
+        return cache[key]
+
+    return power
 
 
 def _power_sql(z: str, p: float) -> str:
@@ -73,6 +88,10 @@ class Fp1Kind(Kind):
 
     def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
         return fp_power(x + float(params["shift"]), float(params["power"]))[:, None]
+
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        powers = _powers_of(x, params)
+        return np.stack([powers(p["shift"], p["power"]) for p in params])[:, :, None]
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["fp1"]
@@ -120,6 +139,15 @@ class Fp2Kind(Kind):
         second = first * safe_log(z) if p1 == p2 else fp_power(z, p2)
         return np.column_stack([first, second])
 
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        powers = _powers_of(x, params)
+        out = np.empty((len(params), x.size, 2))
+        for i, p in enumerate(params):
+            p1, p2 = (float(v) for v in p["powers"])
+            out[i, :, 0] = first = powers(p["shift"], p1)
+            out[i, :, 1] = first * powers(p["shift"], "ln") if p1 == p2 else powers(p["shift"], p2)
+        return out
+
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["fp2a", "fp2b"]
 
@@ -164,7 +192,7 @@ class Fp1Candidate(Candidate):
         return [Recoding(FP1, {"power": p, "shift": shift}) for p in POWERS]
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(search(self.search_options(counts), counts), searched=True)
+        return learned_by_search(self.search_options(counts), counts)
 
 
 class Fp2Candidate(Candidate):
@@ -186,4 +214,4 @@ class Fp2Candidate(Candidate):
         ]
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        return Learned(search(self.search_options(counts), counts), searched=True)
+        return learned_by_search(self.search_options(counts), counts)

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -16,11 +16,11 @@ from tui.engine.forms.base import (
     Recoding,
     RecodingError,
     check_number,
-    search,
     sql_number,
     words_number,
 )
 from tui.engine.forms.cutpoints import cut_candidates
+from tui.engine.forms.search import learned_by_search
 
 FLAT_SHARE = 0.15
 """A fitted hinge reads as a threshold when one side's slope is under this share of the
@@ -41,6 +41,13 @@ class HingeKind(Kind):
 
     def apply(self, params: Mapping[str, Any], x: np.ndarray) -> np.ndarray:
         return np.column_stack([x, np.maximum(x - float(params["knot"]), 0.0)])
+
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        knots = np.array([float(p["knot"]) for p in params])
+        out = np.empty((knots.size, x.size, 2))
+        out[:, :, 0] = x
+        out[:, :, 1] = np.maximum(x[None, :] - knots[:, None], 0.0)
+        return out
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["lin", "hinge"]
@@ -96,4 +103,4 @@ class HingeCandidate(Candidate):
         options = self.search_options(counts) or []
         if not options:
             raise RecodingError("too few distinct values to place a hinge")
-        return Learned(search(options, counts), searched=True)
+        return learned_by_search(options, counts)

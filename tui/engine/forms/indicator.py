@@ -4,7 +4,7 @@ reads as the change in risk on the side the analyst cares about. Both sides fit 
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -18,11 +18,11 @@ from tui.engine.forms.base import (
     Recoding,
     RecodingError,
     check_number,
-    search,
     sql_number,
     words_number,
 )
 from tui.engine.forms.cutpoints import cut_candidates
+from tui.engine.forms.search import learned_by_search
 
 BELOW, ABOVE = "below", "above"
 SIDES = (BELOW, ABOVE)
@@ -56,6 +56,10 @@ class IndicatorKind(Kind):
         cut = float(params["cut"])
         ones = x >= cut if side_of(params) == ABOVE else x < cut
         return ones.astype(float)[:, None]
+
+    def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
+        cuts = np.array([float(p["cut"]) for p in params])
+        return (x[None, :] < cuts[:, None]).astype(float)[:, :, None]
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return [side_of(params)]
@@ -112,4 +116,4 @@ class IndicatorCandidate(Candidate):
         options = self.search_options(counts) or []
         if not options:
             raise RecodingError("too few distinct values to place a cut point")
-        return Learned(search(options, counts), searched=True)
+        return learned_by_search(options, counts)

@@ -1,0 +1,136 @@
+"""Choose the best of many recodings of one kind by likelihood (powers, knots, cut points).
+
+On reduced counts the members are fitted as one stack (``tui.engine.batch_fit``), their
+designs built in one go by the kind (``Kind.apply_many``); the choice is the same as
+fitting them one at a time, since every member near the top, and every member the stack
+cannot settle, is fitted alone before choosing. The chosen member's own fit is handed back
+with it, so the candidate does not fit it again.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from tui.engine.batch_fit import fit_stack
+from tui.engine.counts import ReducedCounts
+from tui.engine.fitting import LogisticFit
+from tui.engine.forms.base import Learned, Recoding, RecodingError, design_matrix, fit_on_counts
+
+Key = tuple[bool, float] | None
+"""(usable, log-likelihood) of a member; None where the form cannot be applied."""
+
+
+def search(recodings: list[Recoding], counts: ReducedCounts) -> Recoding:
+    """The recoding with the highest likelihood on the counts (first wins ties).
+
+    Separated or non-converged members lose to any usable one.
+    """
+    return search_fitted(recodings, counts)[0]
+
+
+def search_fitted(
+    recodings: list[Recoding], counts: ReducedCounts
+) -> tuple[Recoding, LogisticFit | None]:
+    """``search``, with the chosen member's fit when it was fitted alone (the fit
+    ``fit_on_counts`` gives it), else None."""
+    fits: dict[int, LogisticFit] = {}
+    if counts.covariates is None and len(recodings) > 2:
+        keys = _stacked_keys(recodings, counts, fits)
+    else:
+        keys = _single_keys(recodings, counts, range(len(recodings)), fits)
+    chosen = _choose(keys)
+    return recodings[chosen], fits.get(chosen)
+
+
+def learned_by_search(recodings: list[Recoding], counts: ReducedCounts) -> Learned:
+    """What a searching candidate learns: the best member, its fit kept."""
+    recoding, fit = search_fitted(recodings, counts)
+    return Learned(recoding, searched=True, fit=fit)
+
+
+def search_singly(recodings: list[Recoding], counts: ReducedCounts) -> Recoding:
+    """``search`` fitting one member at a time (the reference the stacked search is
+    tested against)."""
+    return recodings[_choose(_single_keys(recodings, counts, range(len(recodings)), {}))]
+
+
+def _single_keys(
+    recodings: list[Recoding],
+    counts: ReducedCounts,
+    which: range | list[int],
+    fits: dict[int, LogisticFit],
+) -> list[Key]:
+    keys: list[Key] = [None] * len(recodings)
+    for i in which:
+        try:
+            fit = fit_on_counts(recodings[i], counts)
+        except RecodingError:
+            continue
+        fits[i] = fit
+        keys[i] = (fit.ok, fit.llf)
+    return keys
+
+
+def stacked_designs(recodings: list[Recoding], x: np.ndarray) -> np.ndarray | None:
+    """Designs of every member (members × rows × (1 + outputs)), each equal to its
+    ``design_matrix``; None when the members differ in kind, clip, fill or width."""
+    first = recodings[0]
+    plain = all(r.form == first.form and r.clip is None and r.missing is None for r in recodings)
+    if not plain or not np.all(np.isfinite(x)):
+        return None
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        outputs = first.form.apply_many([r.params for r in recodings], x)
+    if outputs.ndim != 3:
+        return None
+    k, m, q = outputs.shape
+    designs = np.empty((k, m, q + 1))
+    designs[:, :, 0] = 1.0
+    designs[:, :, 1:] = outputs
+    return designs
+
+
+def _stacked_keys(
+    recodings: list[Recoding], counts: ReducedCounts, fits: dict[int, LogisticFit]
+) -> list[Key]:
+    """Keys of every member: the stack ranks them, the members near the top and those it
+    cannot settle are fitted alone (``fits`` keeps those fits)."""
+    designs = stacked_designs(recodings, counts.x)
+    if designs is None:
+        listed = [design_matrix(rec, counts.x) for rec in recodings]
+        if len({d.shape for d in listed}) != 1:
+            finite = [i for i, d in enumerate(listed) if np.all(np.isfinite(d))]
+            return _single_keys(recodings, counts, finite, fits)
+        designs = np.stack(listed)
+    finite = np.isfinite(designs).all(axis=(1, 2))
+    at = np.flatnonzero(finite)
+    keys: list[Key] = [None] * len(recodings)
+    if not at.size:
+        return keys
+    stack = fit_stack(
+        designs[at] if at.size < finite.size else designs, counts.events, counts.trials
+    )
+    top = max((float(ll) for ll in stack.llf[stack.settled]), default=-np.inf)
+    window = 1e-7 * (abs(top) + 1.0)
+    alone: list[int] = []
+    for i, ok, ll in zip(at.tolist(), stack.settled, stack.llf, strict=True):
+        if ok and ll < top - window:
+            keys[i] = (True, float(ll))  # far below the best: its exact value cannot matter
+        else:
+            alone.append(i)
+    for i, key in enumerate(_single_keys(recodings, counts, alone, fits)):
+        if i in fits:
+            keys[i] = key
+    return keys
+
+
+def _choose(keys: list[Key]) -> int:
+    """The first member with the best key, a usable fit beating any unusable one."""
+    best: tuple[bool, float, int] | None = None
+    for i, key in enumerate(keys):
+        if key is None:
+            continue
+        if best is None or key[0] > best[0] or (key[0] == best[0] and key[1] > best[1] + 1e-9):
+            best = (key[0], key[1], i)
+    if best is None:
+        raise RecodingError("no member of the search could be fitted")
+    return best[2]

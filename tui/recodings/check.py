@@ -16,8 +16,9 @@ from typing import Any
 import numpy as np
 
 from tui.engine.compare import fit_candidate
-from tui.engine.counts import reduce_column
+from tui.engine.counts import ReducedCounts, reduce_column, rows_with_covariates
 from tui.engine.drift import PSI_LARGE, stability_index
+from tui.engine.forms.base import Recoding
 from tui.engine.forms.linear import LinearCandidate
 from tui.engine.recorded import fit_recoding
 from tui.recodings.model import Decision, RecodingLog
@@ -110,6 +111,20 @@ def verdict_of(delta_aic: float) -> str:
     return WEAKER if delta_aic < 0 else NOT_BETTER
 
 
+def _counts(recoding: Recoding, x: np.ndarray, y: np.ndarray) -> ReducedCounts:
+    """The counts the comparison is fitted on. A recoding that fills a missing x is compared
+    on every row with an outcome, as it will be used: x filled, and its missing indicator
+    (when it has one) in both fits, the accepted form's and linear's alike."""
+    rule = recoding.missing
+    if rule is None:
+        return reduce_column(x, y)
+    absent = ~np.isfinite(x)
+    filled = np.where(absent, rule.fill, x)
+    if not rule.indicator:
+        return reduce_column(filled, y)
+    return rows_with_covariates(filled, y, absent.astype(float)[:, None])
+
+
 def check_decision(decision: Decision, x: np.ndarray, y: np.ndarray) -> ColumnCheck:
     """One decision checked on a later extract's values ``x`` and outcome ``y``."""
     present = np.isfinite(x)
@@ -130,7 +145,7 @@ def check_decision(decision: Decision, x: np.ndarray, y: np.ndarray) -> ColumnCh
     )
     if _kept_linear(decision):
         return base
-    counts = reduce_column(x, y)
+    counts = _counts(recoding, x, y)
     if counts.distinct < 2 or counts.total_events in (0, counts.rows):
         return _with(base, verdict=NOT_FITTED)
     with np.errstate(all="ignore"):

@@ -10,9 +10,9 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
+from tui.intake.sources.base import SourceColumn
 from tui.intake.sources.dialect import Dialect
-from tui.intake.sources.reduce import SqlReduction
+from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
 
 NUMERIC_TYPES = (
@@ -27,7 +27,7 @@ def _numeric(type_name: str) -> bool:
     return upper in NUMERIC_TYPES or upper.startswith("DECIMAL")
 
 
-class DuckDBSource:
+class DuckDBSource(ReducedInEngine):
     """A DuckDB relation, reduced by DuckDB."""
 
     def __init__(self, relation: str, label: str, database: str | None = None) -> None:
@@ -57,17 +57,6 @@ class DuckDBSource:
         except self._duckdb.Error as problem:
             first = str(problem).splitlines()[0] if str(problem) else type(problem).__name__
             raise InputProblem(f"{self.label}: {first}") from None
-
-    def columns(self) -> list[SourceColumn]:
-        return list(self._columns)
-
-    def code_outcome(self, column: str, event: str | None) -> SourceOutcome:
-        return self._reduction.code(column, event)
-
-    def reduce(
-        self, outcome: SourceOutcome, names: list[str], plan: BinPlan
-    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
-        return self._reduction.reduce(outcome, names, plan)
 
     def close(self) -> None:
         self._con.close()

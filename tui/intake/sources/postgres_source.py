@@ -12,10 +12,10 @@ from typing import Any
 
 import numpy as np
 
-from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
+from tui.intake.sources.base import SourceColumn
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.postgres_url import checked_url, redacted, scrub
-from tui.intake.sources.reduce import SqlReduction
+from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
 
 NUMERIC_TYPES = frozenset({"int2", "int4", "int8", "float4", "float8", "numeric", "bool", "oid"})
@@ -47,7 +47,7 @@ class PostgresDialect(Dialect):
         return f"width_bucket({expr}, {self._array([float(e) for e in edges])})"
 
 
-class PostgresSource:
+class PostgresSource(ReducedInEngine):
     """A PostgreSQL relation, reduced by the server."""
 
     def __init__(self, url: str, table: str | None, query: str | None) -> None:
@@ -91,17 +91,6 @@ class PostgresSource:
                 return cur.fetchall()
         except self._psycopg.Error as problem:
             raise InputProblem(f"{self.label}: {self._first_line(problem)}") from None
-
-    def columns(self) -> list[SourceColumn]:
-        return list(self._columns)
-
-    def code_outcome(self, column: str, event: str | None) -> SourceOutcome:
-        return self._reduction.code(column, event)
-
-    def reduce(
-        self, outcome: SourceOutcome, names: list[str], plan: BinPlan
-    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
-        return self._reduction.reduce(outcome, names, plan)
 
     def close(self) -> None:
         self._con.close()

@@ -271,3 +271,22 @@ class SqlReduction:
             gap = gaps[slot]
             out[i] = (x, t, e, None if gap is None else float(gap), grid)
         return out
+
+
+class ReducedInEngine:
+    """What every SQL source answers the same way once it has listed its columns
+    (``_columns``) and set up its ``SqlReduction`` (``_reduction``)."""
+
+    _columns: list[SourceColumn]
+    _reduction: SqlReduction
+
+    def columns(self) -> list[SourceColumn]:
+        return list(self._columns)
+
+    def code_outcome(self, column: str, event: str | None) -> SourceOutcome:
+        return self._reduction.code(column, event)
+
+    def reduce(
+        self, outcome: SourceOutcome, names: list[str], plan: BinPlan
+    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
+        return self._reduction.reduce(outcome, names, plan)

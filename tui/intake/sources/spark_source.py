@@ -19,9 +19,9 @@ from typing import Any
 
 import numpy as np
 
-from tui.intake.sources.base import BinPlan, OtherColumn, PushedColumn, SourceColumn, SourceOutcome
+from tui.intake.sources.base import SourceColumn
 from tui.intake.sources.dialect import Dialect
-from tui.intake.sources.reduce import SqlReduction
+from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
 
 ACCURACY = 100_000
@@ -87,7 +87,7 @@ def spark_session(master: str | None):
         raise InputProblem(f"Spark did not start: {str(problem).splitlines()[0]}") from None
 
 
-class SparkSource:
+class SparkSource(ReducedInEngine):
     """A Spark table or Parquet path, reduced by Spark SQL."""
 
     def __init__(self, name: str, master: str | None = None) -> None:
@@ -121,17 +121,6 @@ class SparkSource:
             return [tuple(row) for row in self._session.sql(sql).collect()]
         except self._errors as problem:
             raise InputProblem(f"{self.label}: {str(problem).splitlines()[0]}") from None
-
-    def columns(self) -> list[SourceColumn]:
-        return list(self._columns)
-
-    def code_outcome(self, column: str, event: str | None) -> SourceOutcome:
-        return self._reduction.code(column, event)
-
-    def reduce(
-        self, outcome: SourceOutcome, names: list[str], plan: BinPlan
-    ) -> tuple[list[PushedColumn], list[OtherColumn]]:
-        return self._reduction.reduce(outcome, names, plan)
 
     def close(self) -> None:
         """The session is left running: it may be shared (a notebook, a test session)."""

@@ -33,9 +33,9 @@ import numpy as np
 from tui.engine import flags as F
 from tui.engine.adjust import Adjustment
 from tui.engine.adjusted_newton import ColumnRows, CovariateBlock, covariate_block
-from tui.engine.compare import EVENTS_PER_PARAMETER, NOTE_FEW_EVENTS, ComparisonTable, FormFit
+from tui.engine.compare import ComparisonTable, FormFit, form_row
 from tui.engine.counts import ReducedCounts, reduce_column
-from tui.engine.fitting import LogisticFit, lr_test, one_blas_thread
+from tui.engine.fitting import LogisticFit, one_blas_thread
 from tui.engine.forms.base import Candidate, Learned, Recoding, RecodingError
 from tui.engine.forms.fracpoly import POWERS, Fp1Candidate
 from tui.engine.forms.registry import triage_candidates
@@ -298,43 +298,9 @@ class _Column:
             return _failed(
                 candidate, "design columns collinear: too few distinct values for this form"
             )
-        status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
-        notes = learned.notes
-        counts = self.counts
-        minority = min(counts.total_events, counts.rows - counts.total_events)
-        if minority < EVENTS_PER_PARAMETER * learned.df:
-            notes.append(NOTE_FEW_EVENTS)
         c = self.rows.block.width - 1
-        aic, bic = fit.aic(learned.df + c), fit.bic(learned.df + c)
-        lr_chi2 = lr_df = lr_p = None
-        delta = float("nan")
-        if linear is not None and linear.fit is not None:
-            delta = aic - linear.aic
-            if learned.nests_linear and learned.df > linear.df:
-                lr_df = learned.df - linear.df
-                lr_chi2, lr_p = lr_test(linear.fit, fit, lr_df)
-        elif candidate.kind == "linear":
-            delta = 0.0
         level = float(self.rows.covariate_means @ fit.coef[1 : 1 + c]) if c else 0.0
-        return FormFit(
-            key=candidate.key,
-            label=candidate.label,
-            form=candidate.form,
-            recoding=learned.recoding,
-            df=learned.df,
-            status=status,
-            deviance=fit.deviance,
-            aic=aic,
-            bic=bic,
-            delta_aic=delta,
-            lr_chi2=lr_chi2,
-            lr_df=lr_df,
-            lr_p=lr_p,
-            notes=tuple(notes),
-            fit=fit,
-            covariate_level=level,
-            covariate_df=c,
-        )
+        return form_row(candidate, learned, fit, self.counts, linear, c, level)
 
     def summarise(self, base: ColumnScan, rows: tuple[FormFit, ...], final: bool) -> ColumnScan:
         """Flags, score and shape from the fitted rows, as ``scan_counts`` sets them.

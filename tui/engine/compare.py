@@ -9,7 +9,7 @@ import numpy as np
 
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
-from tui.engine.forms.base import Candidate, Kind, Recoding, RecodingError, fit_on_counts
+from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError, fit_on_counts
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.shift import learn_shift
 
@@ -156,14 +156,30 @@ def fit_candidate(
         return _failed(candidate, str(problem))
     if fit.rank_deficient:
         return _failed(candidate, "design columns collinear: too few distinct values for this form")
+    return form_row(
+        candidate, learned, fit, counts, linear, counts.covariate_df, _covariate_level(fit, counts)
+    )
+
+
+def form_row(
+    candidate: Candidate,
+    learned: Learned,
+    fit: LogisticFit,
+    counts: ReducedCounts,
+    linear: FormFit | None,
+    covariate_df: int,
+    covariate_level: float,
+) -> FormFit:
+    """The table row of a learned and fitted candidate: status, notes, AIC, BIC, ΔAIC and
+    the LR test against ``linear`` (the row-level adjusted scan builds its rows here too)."""
     status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
     notes = learned.notes
     minority = min(counts.total_events, counts.rows - counts.total_events)
     if minority < EVENTS_PER_PARAMETER * learned.df:
         notes.append(NOTE_FEW_EVENTS)
     # Covariates are estimated in every form alike: they count in AIC/BIC, not in the LR df.
-    aic = fit.aic(learned.df + counts.covariate_df)
-    bic = fit.bic(learned.df + counts.covariate_df)
+    aic = fit.aic(learned.df + covariate_df)
+    bic = fit.bic(learned.df + covariate_df)
     lr_chi2 = lr_df = lr_p = None
     delta = float("nan")
     if linear is not None and linear.fit is not None:
@@ -189,8 +205,8 @@ def fit_candidate(
         lr_p=lr_p,
         notes=tuple(notes),
         fit=fit,
-        covariate_level=_covariate_level(fit, counts),
-        covariate_df=counts.covariate_df,
+        covariate_level=covariate_level,
+        covariate_df=covariate_df,
     )
 
 

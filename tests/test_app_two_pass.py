@@ -171,7 +171,8 @@ def test_an_opened_column_jumps_the_second_pass_queue(folder: Path) -> None:
             table.move_to_key(last)
             await pilot.press("enter")
             await until(pilot, lambda: isinstance(app.screen, InspectScreen))
-            await pilot.pause()
+            # The ask reaches the scan by message, possibly a frame after the screen opens.
+            await until(pilot, lambda: bool(held.asked))
             assert held.asked == [last]
             held.release.set()
             await settle(pilot)

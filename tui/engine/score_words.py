@@ -3,6 +3,8 @@ report and the evidence (the app only shows these; it computes none of them)."""
 
 from __future__ import annotations
 
+from collections.abc import Iterable
+
 from tui.engine.robust_wald import LR, LR_APPROXIMATE, WALD_ROBUST
 
 STATISTIC_LINE = {
@@ -36,3 +38,14 @@ MEANING = {
 def score_label(statistic: str | None) -> str:
     """``(Wald (robust))`` after a score; ``(LR)`` for a likelihood ratio; empty unscored."""
     return f"({statistic})" if statistic else ""
+
+
+_ORDER = (WALD_ROBUST, LR_APPROXIMATE, LR)
+
+
+def statistics_word(statistics: Iterable[str | None]) -> str:
+    """The statistics behind a list of scores, e.g. ``Wald (robust), LR (approximate)``;
+    ``none`` when nothing is scored."""
+    present = set(statistics)
+    named = [s for s in _ORDER if s in present]
+    return ", ".join(named) if named else "none"

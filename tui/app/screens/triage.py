@@ -24,6 +24,7 @@ from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
+from tui.engine.score_words import statistics_word
 from tui.table_rules import best_words
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
@@ -226,6 +227,7 @@ class TriageScreen(Screen[None]):
             parts.append(hint)
         if s.weight:
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
+        parts.append(f"scores {statistics_word(r.statistic for r in s.ranked)}")
         self.query_one("#summary", Line).update(" · ".join(parts))
         self._describe_highlighted()
         self._redraw_cost = time.perf_counter() - started

@@ -89,8 +89,9 @@ def robust_wald(
     scaled = np.column_stack([np.ones(design.shape[0]), (design[:, 1:] - centre) / scale])
     coef = np.r_[0.0, fit.coef[1:] * scale]
     coef[0] = float(np.mean(eta - scaled[:, 1:] @ coef[1:]))  # the same linear predictor
+    squares = (counts.events_sq, counts.nonevents_sq)
     try:
-        cov = sandwich_covariance(scaled, coef, counts.trials, counts.events_sq, counts.nonevents_sq)  # type: ignore[arg-type]
+        cov = sandwich_covariance(scaled, coef, counts.trials, *squares)  # type: ignore[arg-type]
         cols = np.arange(design.shape[1] - tested, design.shape[1])
         return wald_test(coef, cov, cols)
     except np.linalg.LinAlgError:

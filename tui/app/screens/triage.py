@@ -215,7 +215,9 @@ class TriageScreen(Screen[None]):
             table.move_to_key(None)
         counts = s.counts()
         decided = f"{counts.decided} of {len(s.columns)} decided: {counts.words()}"
-        parts = [decided, f"sorted by {self.sort}"]
+        # Which statistic the scores are (engine words): survey weights score by robust Wald.
+        scores = f"scores {statistics_word(r.statistic for r in s.ranked)}"
+        parts = [decided, scores, f"sorted by {self.sort}"]
         if self._filter:
             parts.append(f"names containing '{self._filter}'")
         if self.hide_decided:
@@ -227,7 +229,6 @@ class TriageScreen(Screen[None]):
             parts.append(hint)
         if s.weight:
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
-        parts.append(f"scores {statistics_word(r.statistic for r in s.ranked)}")
         self.query_one("#summary", Line).update(" · ".join(parts))
         self._describe_highlighted()
         self._redraw_cost = time.perf_counter() - started

@@ -1,7 +1,8 @@
 """Triage of one column and ranking of many.
 
 The non-linearity score is the likelihood-ratio chi-square of a restricted cubic spline
-(default 4 knots) against linear, on k - 2 df; where tied quantiles leave too few knots
+(default 4 knots) against linear, on k - 2 df (under survey weights the robust Wald
+chi-square of its k - 2 non-linear terms, ``robust_wald``); where tied quantiles leave too few knots
 (few distinct values), of one indicator per value against linear (``values_test``);
 q-values across scored columns follow Benjamini & Hochberg (1995). The column is reduced
 to counts once, and every fit uses them.

@@ -84,3 +84,27 @@ def test_evidence_the_app_writes_holds_every_key(rng):
 def test_a_decision_that_recorded_nothing_writes_an_empty_object():
     decision = recodings.Decision.make("x", every_kind_log().decisions[0].recoding, (0, 1))
     assert decision.evidence.to_json() == {} and isinstance(decision.evidence, Evidence)
+
+
+def test_the_score_statistic_is_recorded_and_older_logs_read_as_lr(rng):
+    from tui.engine.adjust import Adjustment
+    from tui.engine.scan import scan_column
+
+    older = recodings.loads(_document_with({"score": 12.5, "score_df": 2}))
+    assert older.decisions[0].evidence.score.test == "LR"  # before the key existed
+    assert not older.decisions[0].evidence.holds("score_statistic")
+    assert "score_statistic" not in json.loads(recodings.dumps(older))["recodings"][0]["evidence"]
+    x = rng.gamma(3.0, 10.0, 1200).round()
+    y = (rng.random(x.size) < 0.3).astype(float)
+    w = rng.lognormal(0.0, 0.7, x.size)
+    survey = Adjustment(weights=w / w.mean(), weight_column="w", weight_kind="survey")
+    scan, table = scan_column("x", x, y, adjust=survey)
+    evidence = judged_evidence(
+        table.row("spline"), 4, 4, False, scan, True, Design((), "survey weights w", "w", "survey"),
+        DataFingerprint("cohort.csv", None),
+    )  # fmt: skip
+    assert evidence["score_statistic"] == "Wald (robust)" and evidence.score.test == scan.statistic
+    first = every_kind_log().decisions[0]
+    log = every_kind_log().with_decision(replace(first, evidence=evidence))
+    back = recodings.loads(recodings.dumps(log)).decision_for(first.column).evidence
+    assert back.score.test == "Wald (robust)" and back == evidence

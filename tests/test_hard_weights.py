@@ -66,7 +66,10 @@ def test_survey_weights_are_rescaled_over_each_columns_own_rows():
     basis = spline_basis(x_missing[used], knots)
     lin = reference_deviance(x_missing[used], y[used], w, kind="var")
     spl = reference_deviance(basis, y[used], w, kind="var")
-    assert scan.score == pytest.approx(lin - spl, abs=1e-6)
+    # The table's LR (approximate under survey weights); the score itself is the robust
+    # Wald (tests/test_survey_wald.py).
+    assert table.row("spline").lr_chi2 == pytest.approx(lin - spl, abs=1e-6)
+    assert scan.statistic == "Wald (robust)"
     assert scan.weighted_n == pytest.approx(used.sum())  # average 1 over its own rows
     assert scan.weight_kind == "survey"
     assert "average 1 over each column's rows" in as_table([scan])

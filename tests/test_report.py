@@ -179,3 +179,29 @@ def test_adjusted_weighted_decision_is_recomputed_the_same_way(tmp_path):
     assert accepted.deviance == pytest.approx(ref.deviance, abs=1e-6)
     assert "w (frequency), used here" in report.summary["weights"]
     assert report.summary["adjusted for"] == "age"
+
+
+def test_survey_weighted_report_names_the_robust_wald_and_approximate_lr(tmp_path):
+    # The design-based score itself is checked against statsmodels in test_survey_wald.py;
+    # here the report says which statistic it shows and that its LR p is approximate.
+    rng = np.random.default_rng(12)
+    n = 1200
+    dose = rng.gamma(2.0, 2.0, n).round(1)
+    w = rng.lognormal(0.0, 0.7, n)
+    y = (rng.random(n) < 1 / (1 + np.exp(-(-2 + np.log(dose))))).astype(int)
+    path = tmp_path / "doses.csv"
+    pd.DataFrame({"dose": dose, "w": w, "y": y}).to_csv(path, index=False)
+    data = open_dataset(path, "y")
+    evidence = {"score": 9.5, "score_df": 2, "score_statistic": "Wald (robust)",
+                "weight": "w", "weight_kind": "survey"}  # fmt: skip
+    log = RecodingLog(
+        "y", 1, SourceInfo(path.name, n, file_sha256(path)),
+        (Decision.make("dose", make_recoding("log", {"shift": 0.0}), (0.0, 1.0), "", evidence),),
+    )  # fmt: skip
+    report = build_report(log, data, weight="w", weight_kind="survey")
+    assert report.summary["score statistic"] == "Wald (robust)"
+    assert "robust (sandwich) Wald test" in report.intro
+    text = render_markdown(report)
+    assert "score statistic Wald (robust)" in text
+    assert "LR p approximate: survey weights, sampling design ignored" in text
+    assert "LR p approximate" in render_html(report)

@@ -80,7 +80,7 @@ def add_adjust_options(parser: argparse.ArgumentParser, forms_from_log: bool = F
         choices=WEIGHT_KINDS,
         default=FREQUENCY,
         help="frequency: each row stands for w rows; survey: sampling weights, rescaled "
-        "to average 1 (tests then ignore the sampling design)",
+        "to average 1 (scores by robust Wald; the table's LR p only approximate)",
     )
     if forms_from_log:
         parser.add_argument(

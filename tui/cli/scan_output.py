@@ -10,7 +10,9 @@ from collections.abc import Sequence
 
 from tui.cautions import SHORT_CAUTION
 from tui.engine.flags import NOT_NUMERIC
+from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan
+from tui.engine.score_words import STATISTIC_LINE
 from tui.numbers_text import number_text, p_text
 from tui.table_rules import BEST_RULE, best_words
 
@@ -23,6 +25,7 @@ FIELDS = (
     "score",
     "df",
     "score_test",
+    "statistic",
     "p_value",
     "q_value",
     "shape",
@@ -74,8 +77,14 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | Non
     columns (fields in ``ELIDED_FIRST`` order give way until the table fits); None: all."""
     header = ("#", "column", "n", "miss", "distinct", "score", "df", "test", "p", "q", "shape",
               "best form", "ΔAIC", "flags")  # fmt: skip
+    # Survey weights: the statistic beside each score (robust Wald, or LR where none applies).
+    statistics = {s.statistic for s in scans if s.statistic is not None}
+    labelled = bool(statistics - {LR})
+    if labelled:
+        header = (*header[:8], "statistic", *header[8:])
     rows = [header]
     for i, s in enumerate(scans, 1):
+        stat = (s.statistic or "-",) if labelled else ()
         rows.append(
             (
                 str(i),
@@ -86,6 +95,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | Non
                 number_text(s.score),
                 "-" if s.df is None else str(s.df),
                 s.score_test or "-",
+                *stat,
                 p_text(s.p_value),
                 p_text(s.q_value),
                 s.shape or "-",
@@ -111,12 +121,7 @@ def as_table(scans: Sequence[ColumnScan], adjustment: str = "", width: int | Non
     scored = sum(1 for s in scans if s.score is not None)
     numeric = sum(1 for s in scans if NOT_NUMERIC not in s.flags)
     lines.append("")
-    lines.append(
-        f"{numeric} numeric columns, {scored} scored: score = likelihood-ratio chi-square "
-        "against linear of a restricted cubic spline (test spline) or, where tied values "
-        "leave no knots, of one indicator per distinct value (test values); "
-        "q = Benjamini-Hochberg."
-    )
+    lines.append(f"{numeric} numeric columns, {scored} scored: {STATISTIC_LINE[labelled]}")
     kinds = sorted({s.weight_kind for s in scans if s.weighted_n is not None})
     if kinds:
         lines.append(

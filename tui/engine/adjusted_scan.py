@@ -41,6 +41,7 @@ from tui.engine.forms.fracpoly import POWERS, Fp1Candidate
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import SPLINE
+from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint, scan_column
 from tui.engine.shape import curve_shape
 from tui.engine.values_test import SPLINE_TEST
@@ -341,6 +342,7 @@ class _Column:
             df=spline.lr_df,
             p_value=spline.lr_p,
             score_test=SPLINE_TEST,
+            statistic=LR,  # survey weights never take this path (``handles``)
             shape=curve_shape(grid, spline.log_odds(grid)),
         )
 

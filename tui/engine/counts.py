@@ -60,6 +60,16 @@ class ReducedCounts:
     gap: float | None = None
     """Smallest positive difference between sorted distinct values of the column; None
     means it is read off ``x`` (always so when exact). Bin means are further apart."""
+    events_sq: np.ndarray | None = None
+    """Survey weights only: sum of the squared weights of the event rows at each x, for the
+    sandwich covariance (``robust_wald``); None otherwise."""
+    nonevents_sq: np.ndarray | None = None
+    """Survey weights only: sum of the squared weights of the non-event rows at each x."""
+
+    @property
+    def survey(self) -> bool:
+        """The counts carry the squared weights a design-based (sandwich) test needs."""
+        return self.events_sq is not None and self.nonevents_sq is not None
 
     @property
     def covariate_df(self) -> int:
@@ -127,11 +137,13 @@ def rows_with_covariates(
     y: np.ndarray,
     covariates: np.ndarray,
     weights: np.ndarray | None = None,
+    squares: bool = False,
 ) -> ReducedCounts:
     """Row-level counts for an adjusted check: every complete row kept, sorted by x.
 
     With covariates the likelihood no longer depends on x alone, so rows cannot be pooled;
     each row keeps its own covariate values (and weight, as its number of trials).
+    ``squares`` keeps each row's squared weight (survey weights: ``events_sq``).
     """
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
@@ -145,15 +157,18 @@ def rows_with_covariates(
     distinct = int(np.unique(xs).size)
     low = float(xs[0]) if xs.size else None
     high = float(xs[-1]) if xs.size else None
+    ys = y[ok][order]
     return ReducedCounts(
         xs,
         ws,
-        ws * y[ok][order],
+        ws * ys,
         True,
         values=distinct,
         low=low,
         high=high,
         covariates=covariates[ok][order],
+        events_sq=ws * ws * ys if squares else None,
+        nonevents_sq=ws * ws * (1.0 - ys) if squares else None,
     )
 
 
@@ -248,22 +263,25 @@ def reduce_column(
     weights: np.ndarray | None = None,
     max_levels: int = DEFAULT_MAX_LEVELS,
     exact_below: int = EXACT_BELOW_ROWS,
+    squares: bool = False,
 ) -> ReducedCounts:
     """Reduce finite x (NaN rows dropped) and 0/1 outcome y to counts.
 
     Exact per distinct value when the column has at most ``max_levels`` distinct values
     or fewer than ``exact_below`` rows; otherwise at most ``max_levels`` bins, cut at
     quantiles and at equal steps across the range, each at the mean x of its rows.
+    ``squares`` (survey weights) adds the squared weights of events and non-events per
+    value or bin, which the sandwich covariance needs (``events_sq``, ``nonevents_sq``).
     """
     x = np.asarray(x, dtype=float)
     y = np.asarray(y)
     ok = np.isfinite(x)
-    if weights is None and _zero_one(y):
+    if weights is None and not squares and _zero_one(y):
         event = y == 1 if y.dtype != bool else y
         if not ok.all():
             x, event = x[ok], event[ok]
         return _reduce_binary(x, event, max_levels, exact_below)
-    return _reduce_general(x, y.astype(float), ok, weights, max_levels, exact_below)
+    return _reduce_general(x, y.astype(float), ok, weights, max_levels, exact_below, squares)
 
 
 def _zero_one(y: np.ndarray) -> bool:
@@ -322,6 +340,7 @@ def _reduce_general(
     weights: np.ndarray | None,
     max_levels: int,
     exact_below: int,
+    squares: bool = False,
 ) -> ReducedCounts:
     """Weighted rows, or an outcome not coded 0/1: sums over one stable ordering of rows."""
     if weights is not None:
@@ -344,7 +363,7 @@ def _reduce_general(
     if starts.size <= max_levels or xs.size < exact_below or w is not None:
         trials = np.add.reduceat(ws, starts)
         events = np.add.reduceat(ws * ys, starts)
-        return ReducedCounts(xs[starts], trials, events, True)
+        return ReducedCounts(xs[starts], trials, events, True, **_squares(ws, ys, starts, squares))
 
     bounds = _bin_bounds(xs, max_levels)
     trials = np.add.reduceat(ws, bounds)
@@ -361,4 +380,19 @@ def _reduce_general(
         float(xs[0]),
         float(xs[-1]),
         gap=smallest_gap(xs),
+        **_squares(ws, ys, bounds, squares),
     )
+
+
+def _squares(
+    ws: np.ndarray, ys: np.ndarray, starts: np.ndarray, wanted: bool
+) -> dict[str, np.ndarray | None]:
+    """Squared weights of the event and non-event rows per cell (rows sorted by x, cells
+    beginning at ``starts``): a row-level sandwich summed cell by cell needs nothing else."""
+    if not wanted:
+        return {"events_sq": None, "nonevents_sq": None}
+    w2 = ws * ws
+    return {
+        "events_sq": np.add.reduceat(w2 * ys, starts),
+        "nonevents_sq": np.add.reduceat(w2 * (1.0 - ys), starts),
+    }

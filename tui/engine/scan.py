@@ -1,7 +1,8 @@
 """Triage of one column and ranking of many.
 
 The non-linearity score is the likelihood-ratio chi-square of a restricted cubic spline
-(default 4 knots) against linear, on k - 2 df; where tied quantiles leave too few knots
+(default 4 knots) against linear, on k - 2 df (under survey weights the robust Wald
+chi-square of its k - 2 non-linear terms, ``robust_wald``); where tied quantiles leave too few knots
 (few distinct values), of one indicator per value against linear (``values_test``);
 q-values across scored columns follow Benjamini & Hochberg (1995). The column is reduced
 to counts once, and every fit uses them.
@@ -28,8 +29,10 @@ from tui.engine.fittable import one_outcome_class, too_few_values
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
 from tui.engine.qvalues import bh_qvalues
+from tui.engine.robust_wald import LR, LR_APPROXIMATE, WALD_ROBUST, robust_wald
 from tui.engine.shape import LINEAR, THRESHOLD, TURNING, curve_shape
 from tui.engine.values_test import SPLINE_TEST, VALUES_TEST, values_score
+from tui.intake.weights import SURVEY
 
 Q_LINEAR = 0.05
 """Columns whose q-value is at least this are hinted ``linear``."""
@@ -101,6 +104,9 @@ class ColumnScan:
     score_test: str | None = None
     """Which test gave the score: ``spline`` (spline against linear) or ``values`` (one
     indicator per distinct value against linear, for few-value columns); None unscored."""
+    statistic: str | None = None
+    """What the score is: ``LR``, ``Wald (robust)`` (survey weights: sandwich covariance)
+    or ``LR (approximate)`` (survey weights, no Wald test applies); None unscored."""
 
     def as_record(self) -> dict[str, object]:
         """Plain values for JSON/CSV output."""
@@ -117,6 +123,7 @@ class ColumnScan:
             "score": num(self.score),
             "df": self.df,
             "score_test": self.score_test,
+            "statistic": self.statistic,
             "p_value": num(self.p_value),
             "q_value": num(self.q_value),
             "shape": self.shape,
@@ -217,13 +224,22 @@ def scan_counts(
         return _values_scored(result, counts, table), table
     if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
         return result, table
+    score, p_value, statistic = spline.lr_chi2, spline.lr_p, LR
+    if counts.survey:
+        # Survey weights: the sandwich Wald of the non-linear terms (Binder 1983).
+        wald = robust_wald(spline.recoding, spline.fit, counts, spline.lr_df)  # type: ignore[arg-type]
+        if wald is None:
+            statistic = LR_APPROXIMATE
+        else:
+            score, p_value, statistic = wald.chi2, wald.p_value, WALD_ROBUST
     return (
         replace(
             result,
-            score=spline.lr_chi2,
+            score=score,
             df=spline.lr_df,
-            p_value=spline.lr_p,
+            p_value=p_value,
             score_test=SPLINE_TEST,
+            statistic=statistic,
             shape=_shape_hint(table, counts, forms),
         ),
         table,
@@ -242,6 +258,7 @@ def _values_scored(result: ColumnScan, counts: ReducedCounts, table: ComparisonT
         df=values.df,
         p_value=values.p_value,
         score_test=VALUES_TEST,
+        statistic=LR_APPROXIMATE if counts.survey else LR,
         shape=shape,
     )
 
@@ -300,10 +317,11 @@ def reduce_for_scan(
     if design is not None:
         used &= design.complete
     weights = adjust.weights_over(used)
+    survey = weights is not None and adjust.weight_kind == SURVEY  # squares for the sandwich
     if design is not None:
-        counts = rows_with_covariates(x, y, design.matrix, weights)
+        counts = rows_with_covariates(x, y, design.matrix, weights, squares=survey)
     else:
-        counts = reduce_column(x, y, weights=weights, max_levels=settings.max_levels)
+        counts = reduce_column(x, y, weights, settings.max_levels, squares=survey)
     return ReducedColumn(
         counts,
         rows,

@@ -5,7 +5,8 @@ and the number of observations is the sum of the weights (statsmodels' ``freq_we
 Survey (sampling) weights change how much each row counts but not how many rows were
 observed: they are rescaled to average 1, so the number of observations stays the number of
 rows (statsmodels' ``var_weights`` with the same rescaling). Likelihood-ratio tests under
-survey weights ignore the sampling design and are only approximate.
+survey weights ignore the sampling design and are only approximate, so the scan scores
+survey-weighted columns by a robust Wald test instead (``engine/robust_wald.py``).
 """
 
 from __future__ import annotations

@@ -17,6 +17,7 @@ from typing import Any
 from tui import __version__
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import MissingFill, Recoding
+from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan
 from tui.engine.stability import SelectionShares
 from tui.paths import same_file
@@ -215,6 +216,7 @@ def judged_evidence(
             statistic=_number(scan.score) if scan else None,
             df=int(scan.df) if scan and scan.df is not None else None,
             p=_number(scan.p_value) if scan else None,
+            test=(scan.statistic or LR) if scan else LR,
             q_value=_number(scan.q_value) if scan and final else None,
             shape=scan.shape if scan and final else None,
         ),

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 from numbers import Integral, Real
 from typing import Any
 
+from tui.engine.robust_wald import LR
 from tui.engine.scan import ScanSettings
 from tui.recodings.errors import EntryProblem
 
@@ -26,7 +27,7 @@ DEFAULT_KNOTS = ScanSettings().knots
 """Knots of an entry that did not record them: the scan's default."""
 
 ROW_KEYS = ("form", "df", "deviance", "aic", "delta_aic", "lr_p", "notes", "by_hand")
-SCORE_KEYS = ("score", "score_df", "score_p", "q_value", "shape")
+SCORE_KEYS = ("score", "score_df", "score_p", "score_statistic", "q_value", "shape")
 KEYS = (
     *ROW_KEYS,
     "groups",
@@ -40,8 +41,8 @@ KEYS = (
     "selection",
     "bendwise_version",
 )
-"""Every evidence key this version writes (``bendwise_version`` came after the others:
-older evidence lacks it)."""
+"""Every evidence key this version writes (``bendwise_version`` and ``score_statistic``
+came after the others: older evidence lacks them)."""
 
 
 @dataclass(frozen=True)
@@ -78,6 +79,10 @@ class ScoreFigures:
     """Its degrees of freedom (key ``score_df``); None as for ``statistic``."""
     p: float | None = None
     """Its p-value (key ``score_p``); None as for ``statistic``."""
+    test: str = LR
+    """Which statistic the score is (key ``score_statistic``): ``LR``, ``Wald (robust)``
+    (survey weights, sandwich covariance) or ``LR (approximate)``; ``LR`` when not recorded
+    (logs written before the key existed scored by likelihood ratio)."""
     q_value: float | None = None
     """Benjamini–Hochberg q-value; None before the scan ended, or when not recorded."""
     shape: str | None = None
@@ -180,6 +185,7 @@ class Evidence(Mapping[str, Any]):
             "score": s.statistic,
             "score_df": s.df,
             "score_p": s.p,
+            "score_statistic": None if s.statistic is None else s.test,
             "q_value": s.q_value,
             "shape": s.shape,
             "adjusted_for": list(self.adjusted_for),
@@ -211,6 +217,7 @@ class Evidence(Mapping[str, Any]):
             statistic=read.number("score"),
             df=read.whole("score_df"),
             p=read.number("score_p"),
+            test=read.text("score_statistic") or LR,
             q_value=read.number("q_value"),
             shape=read.text("shape"),
         )

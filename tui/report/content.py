@@ -19,10 +19,11 @@ from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
+from tui.engine.score_words import SURVEY_LR_NOTE, statistics_word
 from tui.engine.smoother import smoothed_log_odds
 from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, METHOD, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
-from tui.intake.weights import FREQUENCY
+from tui.intake.weights import FREQUENCY, SURVEY
 from tui.problems import InputProblem
 from tui.recodings.decisions import decided_counts
 from tui.recodings.evidence import Evidence
@@ -100,6 +101,9 @@ class DecisionSection:
     smoother: tuple[tuple[float, ...], tuple[float, ...]] | None = None
     """The LOWESS smoother inside the window (x, log-odds), as on the review screen."""
     shares: str = ""
+    lr_note: str = ""
+    """Said beside the candidate table's LR p column: empty, or that it is approximate
+    (survey weights)."""
 
 
 @dataclass(frozen=True)
@@ -253,6 +257,7 @@ def _section(
         window=window,
         smoother=smooth,
         shares=shares,
+        lr_note=SURVEY_LR_NOTE if adjust is not None and adjust.weight_kind == SURVEY else "",
     )
 
 
@@ -313,6 +318,7 @@ def build_report(
     summary = {
         "numeric columns scanned": str(len(scans)),
         f"columns with q < {Q_LINEAR} (spline against linear)": str(flagged),
+        "score statistic": statistics_word(s.statistic for s in scans),
         # Decided: recoded, kept linear or set aside (the three counts of every surface).
         "columns decided": str(counts.decided),
         "columns recoded": str(counts.recoded),
@@ -321,10 +327,13 @@ def build_report(
         "adjusted for": ", ".join(adjust) if adjust else "nothing (one column at a time)",
         "weights": ", ".join(weights) if weights else "none",
     }
+    ranked_by = "likelihood-ratio test"
+    if weight and weight_kind == SURVEY:  # the design-based score (Binder 1983)
+        ranked_by = "robust (sandwich) Wald test of the non-linear terms"
     intro = (
         f"Each numeric candidate predictor of '{log.outcome_column}' in {data.path.name} was "
         "checked for linearity on the log-odds scale: columns were ranked by the "
-        "likelihood-ratio test of a restricted cubic spline against a linear term, with "
+        f"{ranked_by} of a restricted cubic spline against a linear term, with "
         "Benjamini-Hochberg q-values across columns, and an analyst reviewed the grouped "
         "empirical logits and a table of candidate forms before recording each decision. "
         "The evidence below is recomputed from the data named here."

@@ -49,7 +49,9 @@ def _decision(d: DecisionSection, outcome: str) -> str:
     header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
     parts.append(
         f"<p>Fit status is ok, separation, not-converged or failed; the accepted form is "
-        f"marked. {escape(DF_RULE)} {escape(LR_DASH)}.</p>"
+        f"marked. {escape(DF_RULE)} {escape(LR_DASH)}."
+        + (f" {escape(d.lr_note)}." if d.lr_note else "")
+        + "</p>"
     )
     parts.append(_table(header, rows, classes))
     parts.append(f"<p>{escape(d.shares)}</p>")

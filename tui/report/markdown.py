@@ -27,7 +27,8 @@ def _decision(d: DecisionSection) -> list[str]:
     if shown:
         out += [f"Evidence recorded at decision time: {shown}.", ""]
     out += [f"Candidate forms on this data (fit status is ok, separation, not-converged or "
-            f"failed; the accepted form in bold). {DF_RULE} {LR_DASH}.", ""]  # fmt: skip
+            f"failed; the accepted form in bold). {DF_RULE} {LR_DASH}.{_note(d.lr_note)}",
+            ""]  # fmt: skip
     rows = [
         [
             ("**" + f.label + "**") if f.accepted else f.label,
@@ -75,3 +76,8 @@ def render_markdown(report: ReportContent) -> str:
     out += ["## Cautions", ""] + [f"- {c}" for c in report.cautions] + [""]
     out += [report.dated_line, ""]
     return "\n".join(out)
+
+
+def _note(text: str) -> str:
+    """A sentence after the table's legend (nothing when empty)."""
+    return f" {text}." if text else ""

@@ -29,6 +29,7 @@ def _shown(evidence: Evidence) -> list[tuple[str, object]]:
         ("form", row.form),
         ("form df", row.df),
         ("spline score", score.statistic),
+        ("score statistic", score.test if score.statistic is not None else None),
         ("score df", score.df),
         ("q-value", fmt_p(score.q_value) if score.q_value is not None else None),
         ("ΔAIC", row.delta_aic),

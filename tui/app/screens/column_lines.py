@@ -11,6 +11,7 @@ from tui.engine.column_fits import TAIL_SHARE
 from tui.engine.compare import FormFit
 from tui.engine.forms.spline import KNOT_PERCENTILES
 from tui.engine.plot_window import PlotWindow
+from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan
 from tui.intake.profile import ColumnProfile
 
@@ -69,7 +70,7 @@ def score_line(
     """The column's score (q and shape once the scan ends) and its tail percentiles."""
     parts = []
     if scan is not None and scan.score is not None:
-        score = f"score {number_text(scan.score)} on {scan.df} df"
+        score = f"score {number_text(scan.score)} on {scan.df} df ({scan.statistic or LR})"
         if scan_finished:
             shape = (scan.shape or "-") if scan.forms_fitted else "shape with the forms"
             parts.append(f"{score} · q {p_text(scan.q_value)} · {shape}")

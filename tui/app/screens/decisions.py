@@ -132,7 +132,7 @@ class DecisionsScreen(Screen[str | None]):
         ev = decision.evidence
         facts = [f"{column}: {decision.recoding.describe()}"]
         if ev.score.statistic is not None:
-            facts.append(f"score {ev.score.statistic:.1f}")
+            facts.append(f"score {ev.score.statistic:.1f} ({ev.score.test})")
         if ev.row.delta_aic is not None:
             facts.append(f"ΔAIC {ev.row.delta_aic:.1f}")
         if ev.row.df is not None:

@@ -10,11 +10,10 @@ from tui.app.fit_cache import ColumnFits, FitRequest
 from tui.app.messages import SharesReady
 from tui.app.widgets.forms_table import FormsTable, form_text
 from tui.app.widgets.line import Line
+from tui.engine.score_words import SURVEY_LR_NOTE
 from tui.engine.stability import DEFAULT_RESAMPLES, SelectionShares
 from tui.intake.weights import SURVEY
 from tui.table_rules import LR_DASH
-
-SURVEY_LR = "LR p approximate: survey weights, sampling design ignored"
 
 
 def share_line(fits: ColumnFits, shares: SelectionShares | None, pending: bool = False) -> str:
@@ -29,7 +28,7 @@ def share_line(fits: ColumnFits, shares: SelectionShares | None, pending: bool =
         text = "shares: " + shares.leaders({r.key: form_text(r) for r in rows})
         text += f" (seed {shares.seed})"
     if fits.request.basis.weight_kind == SURVEY:
-        text += f" · {SURVEY_LR}"
+        text += f" · {SURVEY_LR_NOTE}"
     return f"{text} · {LR_DASH}"
 
 

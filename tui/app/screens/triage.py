@@ -24,6 +24,7 @@ from tui.app.view_state import ReviewView
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
+from tui.engine.score_words import statistics_word
 from tui.table_rules import best_words
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
@@ -214,7 +215,9 @@ class TriageScreen(Screen[None]):
             table.move_to_key(None)
         counts = s.counts()
         decided = f"{counts.decided} of {len(s.columns)} decided: {counts.words()}"
-        parts = [decided, f"sorted by {self.sort}"]
+        # Which statistic the scores are (engine words): survey weights score by robust Wald.
+        scores = f"scores {statistics_word(r.statistic for r in s.ranked)}"
+        parts = [decided, scores, f"sorted by {self.sort}"]
         if self._filter:
             parts.append(f"names containing '{self._filter}'")
         if self.hide_decided:

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 
 from tui.engine.pushed import scan_source
+from tui.engine.reduced_data import ReducedData, reduce_data
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.sources import Source, open_source
 from tui.problems import InputProblem
@@ -38,6 +39,24 @@ def opened_source(args: argparse.Namespace) -> Source | None:
         None if args.engine == "pandas" else args.engine,
         args.spark_master,
     )
+
+
+def reduced(
+    args: argparse.Namespace,
+    outcome: str,
+    event: str | None,
+    names: list[str] | None = None,
+    exclude: list[str] | tuple[str, ...] = (),
+) -> ReducedData | None:
+    """DATA reduced inside its engine (None for a file pandas reads); the source is
+    closed once its counts are back."""
+    source = opened_source(args)
+    if source is None:
+        return None
+    try:
+        return reduce_data(source, outcome, event, exclude, ScanSettings(), names)
+    finally:
+        source.close()
 
 
 def scan_results(source: Source, args: argparse.Namespace) -> list[ColumnScan]:

@@ -1,0 +1,103 @@
+"""forms, check, report and review on a DuckDB database and through --engine duckdb: the
+same rows give the file path's figures (exact reduction: to 1e-9; a binned column: within
+the binning tolerance)."""
+
+from __future__ import annotations
+
+import duckdb
+import pandas as pd
+import pytest
+from conftest import SAMPLE
+from source_cases import OUTCOME, binned_frame
+from source_commands import FORMS_COLUMNS, assert_close, check_json, run_json
+from test_check import FRESH, learned_log
+
+from tui import recodings
+from tui.cli.main import main
+from tui.recodings.model import Decision
+
+COHORT = SAMPLE / "surgical_cohort.csv"
+
+
+@pytest.fixture(scope="module")
+def database(tmp_path_factory):
+    path = tmp_path_factory.mktemp("duck") / "cohort.duckdb"
+    con = duckdb.connect(str(path))
+    con.register("t", pd.read_csv(COHORT))
+    con.execute("CREATE TABLE cohort AS SELECT * FROM t")
+    con.register("f", pd.read_csv(FRESH))
+    con.execute("CREATE TABLE fresh AS SELECT * FROM f")
+    con.register("b", binned_frame(rows=12_000, seed=5))
+    con.execute("CREATE TABLE binned AS SELECT * FROM b")
+    con.close()
+    return path
+
+
+@pytest.mark.parametrize("column", FORMS_COLUMNS)
+def test_forms_equal_the_file(database, capsys, column):
+    args = ("forms", "--outcome", OUTCOME, "--column", column, "--resamples", "20")
+    want = run_json(capsys, args[0], str(COHORT), *args[1:])
+    got = run_json(capsys, args[0], str(database), "--table", "cohort", *args[1:])
+    assert_close(got, want)
+
+
+def test_forms_of_a_binned_column_equal_the_file(database, tmp_path, capsys):
+    # DuckDB's quantiles are exact, so the bins are the file scan's own.
+    path = tmp_path / "binned.parquet"
+    binned_frame(rows=12_000, seed=5).to_parquet(path)
+    args = ("--outcome", "y", "--column", "skewed")
+    want = run_json(capsys, "forms", str(path), *args)
+    assert_close(run_json(capsys, "forms", str(database), "--table", "binned", *args), want)
+    assert_close(run_json(capsys, "forms", str(path), "--engine", "duckdb", *args), want)
+
+
+def test_forms_name_a_missing_or_text_column(database, capsys):
+    base = ["forms", str(database), "--table", "cohort", "--outcome", OUTCOME]
+    assert main([*base, "--column", "nope"]) == 2
+    assert "has no column(s) 'nope'" in capsys.readouterr().err
+
+
+@pytest.fixture(scope="module")
+def fill_log(tmp_path_factory):
+    """The planted bends, one with a fill and an indicator, and a column set aside."""
+    from dataclasses import replace
+
+    from tui.engine.forms import MissingFill
+
+    log = learned_log(
+        {"crp_mg_l": "log", "bmi": "quadratic", "height_cm": "spline", "sodium_mmol_l": "linear"}
+    )
+    first = log.decisions[0]
+    recoding = replace(first.recoding, missing=MissingFill(4.0, True))
+    filled = Decision.make(
+        first.column, recoding, first.range, evidence={"form": "log"}, deciles=first.deciles
+    )
+    third = log.decisions[2]  # height: filled without an indicator
+    plain = Decision.make(
+        third.column,
+        replace(third.recoding, missing=MissingFill(170.0, False)),
+        third.range,
+        evidence={"form": "spline"},
+        deciles=third.deciles,
+    )
+    log = replace(log, decisions=(filled, log.decisions[1], plain, log.decisions[3]))
+    path = tmp_path_factory.mktemp("logs") / "log.json"
+    recodings.save(log, path)
+    return path
+
+
+def test_check_equals_the_file(database, fill_log, capsys):
+    want = check_json(capsys, fill_log, str(FRESH))
+    got = check_json(capsys, fill_log, str(database), "--table", "fresh")
+    assert_close(got, want, tol=1e-7)
+    assert [r["verdict"] for r in got][:2] == ["holds", "holds"]
+    assert got[0]["missing"] == 31 and got[-1]["kind"] == "set aside"
+    csv = check_json(capsys, fill_log, str(FRESH), "--engine", "duckdb")
+    assert_close(csv, want, tol=1e-7)
+
+
+def test_check_names_a_column_the_source_lacks(database, fill_log, capsys):
+    query = "SELECT wound_infection_30d, bmi FROM fresh"
+    assert main(["check", str(fill_log), str(database), "--query", query]) == 2
+    err = capsys.readouterr().err
+    assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l" in err

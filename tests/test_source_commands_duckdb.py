@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 from conftest import SAMPLE
 from source_cases import OUTCOME, binned_frame
-from source_commands import FORMS_COLUMNS, assert_close, check_json, run_json
+from source_commands import FORMS_COLUMNS, assert_close, check_json, report_lines, run_json
 from test_check import FRESH, learned_log
 
 from tui import recodings
@@ -101,3 +101,37 @@ def test_check_names_a_column_the_source_lacks(database, fill_log, capsys):
     assert main(["check", str(fill_log), str(database), "--query", query]) == 2
     err = capsys.readouterr().err
     assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l" in err
+
+
+def test_report_equals_the_file_but_for_the_data_lines(database, tmp_path):
+    log = learned_log({"crp_mg_l": "log", "bmi": "quadratic", "height_cm": "spline"})
+    path = tmp_path / "log.json"
+    recodings.save(log, path)
+    want, got = tmp_path / "file.md", tmp_path / "duck.md"
+    assert main(["report", str(path), "--data", str(COHORT), "--output", str(want)]) == 0
+    args = ["report", str(path), "--data", str(database), "--table", "cohort"]
+    assert main([*args, "--output", str(got)]) == 0
+    assert report_lines(got) == report_lines(want)
+    text = got.read_text()
+    assert "| source | duckdb cohort.duckdb table cohort |" in text
+    assert "| fingerprint | " in text
+
+
+def test_a_report_of_adjusted_decisions_on_a_source_is_refused(database, tmp_path, capsys):
+    log = learned_log({"bmi": "quadratic"})
+    first = log.decisions[0]
+    adjusted = Decision.make(
+        first.column,
+        first.recoding,
+        first.range,
+        evidence={"form": "quadratic", "adjusted_for": ["age_years"]},
+    )
+    from dataclasses import replace
+
+    path = tmp_path / "log.json"
+    recodings.save(replace(log, decisions=(adjusted,)), path)
+    args = ["report", str(path), "--data", str(database), "--table", "cohort"]
+    assert main([*args, "--output", str(tmp_path / "r.md")]) == 2
+    err = capsys.readouterr().err
+    assert "decisions adjusted for age_years" in err and "not pulled from" in err
+    assert not (tmp_path / "r.md").exists()

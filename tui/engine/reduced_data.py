@@ -63,10 +63,13 @@ class ReducedData:
         """The column's counts per distinct value or per bin."""
         return self.reduced[column].counts
 
-    def scans(self, settings: ScanSettings = ScanSettings()) -> list[ColumnScan]:
-        """Every column's scan (q-values left for ``rank``), non-numeric ones listed."""
+    def scans(
+        self, settings: ScanSettings = ScanSettings(), listed_too: bool = True
+    ) -> list[ColumnScan]:
+        """Every numeric column's scan (q-values left for ``rank``), then the other
+        columns listed (unless ``listed_too`` is False)."""
         found = [scan_reduced(n, r, settings)[0] for n, r in self.reduced.items()]
-        return found + [listed(c) for c in self.other.values()]
+        return found + ([listed(c) for c in self.other.values()] if listed_too else [])
 
     def profile(self, column: str) -> ColumnProfile:
         """Counts and range of the column, as a file profile gives them."""

@@ -26,7 +26,11 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         "it with linear; measure each column's drift against the training deciles.",
     )
     parser.add_argument("log", metavar="LOG", help="recoding log (.json)")
-    parser.add_argument("data", metavar="DATA", help="the later extract: a file, PATH.duckdb, postgresql://... or spark:NAME")
+    parser.add_argument(
+        "data",
+        metavar="DATA",
+        help="the later extract: a file, PATH.duckdb, postgresql://... or spark:NAME",
+    )
     add_source_options(parser)
     parser.add_argument("--format", choices=("table", "json"), default="table")
     parser.add_argument("--output", metavar="FILE", help="write here instead of stdout")

@@ -38,7 +38,9 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         description="Fit every candidate form of one column and print the comparison table; "
         "with --resamples, how often each form had the lowest AIC across bootstrap resamples.",
     )
-    parser.add_argument("data", metavar="DATA", help="data file, PATH.duckdb, postgresql://... or spark:NAME")
+    parser.add_argument(
+        "data", metavar="DATA", help="data file, PATH.duckdb, postgresql://... or spark:NAME"
+    )
     parser.add_argument("--outcome", required=True, metavar="COL", help="binary outcome column")
     parser.add_argument(
         "--event", metavar="VALUE", help="outcome value that counts as the event (text outcomes)"

@@ -3,9 +3,14 @@
 from __future__ import annotations
 
 import argparse
+from typing import TYPE_CHECKING
 
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
+from tui.cli.source_options import add_source_options, reduced
 from tui.engine.scan import ScanSettings
+
+if TYPE_CHECKING:
+    from tui.app.session import ReviewSession
 
 
 def add_parser(commands: argparse._SubParsersAction) -> None:
@@ -19,6 +24,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
     add_data_options(parser)
     add_fit_options(parser)
     add_adjust_options(parser)  # covariates' forms come from --log, the review's own log
+    add_source_options(parser)
     parser.add_argument(
         "--log",
         metavar="LOG",
@@ -45,10 +51,31 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     # Textual loads only when the review starts, so other commands stay quick.
     from tui.app.app import ReviewApp
-    from tui.app.session import open_session
+    from tui.app.source_session import open_source_session
 
     settings = ScanSettings(groups=args.groups, knots=args.knots)
-    session = open_session(
+    data = (
+        None
+        if args.adjust or args.weight
+        else reduced(args, args.outcome, args.event, None, args.exclude)
+    )
+    if data is not None:
+        session = open_source_session(
+            data, args.log, settings, args.read_only, args.take_over, args.analyst
+        )
+    else:
+        session = _file_session(args, settings)
+    try:
+        ReviewApp(session).run()
+    finally:
+        session.book.close()  # the lock goes; every decision is already saved
+    return 0
+
+
+def _file_session(args: argparse.Namespace, settings: ScanSettings) -> ReviewSession:
+    from tui.app.session import open_session
+
+    return open_session(
         args.data,
         args.outcome,
         args.event,
@@ -62,8 +89,3 @@ def run(args: argparse.Namespace) -> int:
         take_over=args.take_over,
         analyst=args.analyst,
     )
-    try:
-        ReviewApp(session).run()
-    finally:
-        session.book.close()  # the lock goes; every decision is already saved
-    return 0

@@ -13,8 +13,6 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
-import numpy as np
-
 from tui.engine.counts import ReducedCounts
 from tui.engine.drift import DECILE_PROBS
 from tui.engine.forms.base import Recoding
@@ -58,6 +56,27 @@ class ReducedData:
     def rows(self) -> int:
         """Rows with an outcome."""
         return self.outcome.rows
+
+    @property
+    def name(self) -> str:
+        """A short name: the table, or ``query``."""
+        return self.origin.table or "query"
+
+    @property
+    def skipped(self) -> tuple[OtherColumn, ...]:
+        """Columns that are not numeric (each with its ``name``)."""
+        return tuple(self.other.values())
+
+    def source_info(self) -> tuple[str, int, str, dict]:
+        """(name, rows, fingerprint, where) for the log's ``source`` and ``source.engine``:
+        rows counts every row of the relation, as a file's count does."""
+        o = self.origin
+        where = {
+            "engine": o.engine, "host": o.host, "database": o.database, "table": o.table,
+            "query_sha256": o.query_sha256, "rows": self.rows, "fingerprint": self.fingerprint,
+        }  # fmt: skip
+        total = self.rows + self.outcome.dropped_missing
+        return self.name, total, self.fingerprint, where
 
     def counts(self, column: str) -> ReducedCounts:
         """The column's counts per distinct value or per bin."""

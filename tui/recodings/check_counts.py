@@ -45,8 +45,10 @@ def counts_for(
         return counts
     if group is None:  # nothing to fill: an indicator that is zero on every row, as on a file
         zeros = np.zeros((counts.x.size, 1)) if rule.indicator else None
-        return counts if zeros is None else ReducedCounts(
-            counts.x, counts.trials, counts.events, True, covariates=zeros
+        return (
+            counts
+            if zeros is None
+            else ReducedCounts(counts.x, counts.trials, counts.events, True, covariates=zeros)
         )
     x = np.append(counts.x, rule.fill)
     trials = np.append(counts.trials, group.n)

@@ -14,9 +14,7 @@ from tui.recodings.check_counts import check_log_counts
 from tui.recodings.model import RecodingLog
 
 
-def check_source(
-    log: RecodingLog, source: Source, renames: Mapping[str, str]
-) -> list[ColumnCheck]:
+def check_source(log: RecodingLog, source: Source, renames: Mapping[str, str]) -> list[ColumnCheck]:
     """Every decision of ``log`` checked on ``source`` (closed at the end). Raises
     InputProblem for a column the source lacks or does not hold as numbers."""
     try:
@@ -37,9 +35,7 @@ def check_source(
         data = reduce_data(source, log.outcome_column, event, (), ScanSettings(), chosen)
         not_numeric = [c for c in wanted if c not in data.reduced]
         if not_numeric:
-            raise InputProblem(
-                f"column(s) not numeric in {source.label}: {', '.join(not_numeric)}"
-            )
+            raise InputProblem(f"column(s) not numeric in {source.label}: {', '.join(not_numeric)}")
         return check_log_counts(
             log,
             lambda n: data.counts(n) if n in data.reduced else None,

@@ -15,9 +15,9 @@ from tui.engine.column_fits import CandidateSet, fit_column
 from tui.engine.compare import ComparisonTable, FormFit
 from tui.engine.counts import ReducedCounts
 from tui.engine.groups import logit_groups
-from tui.engine.reduced_data import ReducedData
 from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
+from tui.engine.reduced_data import ReducedData
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.engine.smoother import smoothed_log_odds

@@ -9,8 +9,8 @@ counts a file scan builds (``tui.engine.pushed``).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from typing import Protocol
 
 import numpy as np

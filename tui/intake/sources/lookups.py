@@ -77,9 +77,9 @@ def fetch(reduction: SqlReduction, names: Sequence[str], cap: int, label: str) -
     d = reduction.dialect
     outcome = reduction._outcome
     rows = int(
-        reduction.run(f"SELECT COUNT(*) FROM {reduction.relation} AS s WHERE {outcome} IS NOT NULL")[
-            0
-        ][0]
+        reduction.run(
+            f"SELECT COUNT(*) FROM {reduction.relation} AS s WHERE {outcome} IS NOT NULL"
+        )[0][0]
     )
     if rows > cap:
         raise InputProblem(

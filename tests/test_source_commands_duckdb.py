@@ -135,3 +135,11 @@ def test_a_report_of_adjusted_decisions_on_a_source_is_refused(database, tmp_pat
     err = capsys.readouterr().err
     assert "decisions adjusted for age_years" in err and "not pulled from" in err
     assert not (tmp_path / "r.md").exists()
+
+
+def test_review_opens_on_the_database_and_equals_the_file(database, tmp_path):
+    from source_review import review_matches_file
+
+    from tui.intake.sources import open_source
+
+    review_matches_file(open_source(str(database), "cohort"), OUTCOME, COHORT, tmp_path)

@@ -7,7 +7,9 @@ import argparse
 from tui.engine.pushed import scan_source
 from tui.engine.reduced_data import ReducedData, reduce_data
 from tui.engine.scan import ColumnScan, ScanSettings
+from tui.intake.dataset import Dataset
 from tui.intake.sources import Source, open_source
+from tui.intake.sources.fetched import DEFAULT_ROW_CAP, fetched_dataset, needed_columns
 from tui.problems import InputProblem
 
 ENGINES = ("pandas", "duckdb")
@@ -24,10 +26,48 @@ def add_source_options(parser: argparse.ArgumentParser) -> None:
         help="duckdb: reduce a CSV or Parquet file inside DuckDB without loading it",
     )
     parser.add_argument(
+        "--row-cap",
+        type=row_cap,
+        default=DEFAULT_ROW_CAP,
+        metavar="N",
+        help="most rows fetched from a database for --adjust or --weight, which need rows "
+        f"(default {DEFAULT_ROW_CAP:,}; above it the command stops)",
+    )
+    parser.add_argument(
         "--spark-master",
         metavar="URL",
         help="Spark master for spark:NAME (default local[*]; Spark's own settings apply)",
     )
+
+
+def row_cap(text: str) -> int:
+    value = int(text) if text.isdigit() else -1
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"row cap must be a whole number ≥ 1, not {text!r}")
+    return value
+
+
+def fetched(args: argparse.Namespace, also: list[str]) -> tuple[Dataset, Source] | None:
+    """The rows a check with covariates or weights needs, fetched under ``--row-cap``
+    (None for a file). The source stays open for its fingerprint; the caller closes it."""
+    source = opened_source(args)
+    if source is None:
+        return None
+    try:
+        names = needed_columns(source, args.outcome, args.exclude, also)
+        return fetched_dataset(source, args.outcome, args.event, names, args.row_cap), source
+    except BaseException:
+        source.close()
+        raise
+
+
+def fetched_rows(args: argparse.Namespace, also: list[str]) -> Dataset | None:
+    """``fetched`` with the source closed at once (the rows are all that is needed)."""
+    got = fetched(args, also)
+    if got is None:
+        return None
+    got[1].close()
+    return got[0]
 
 
 def opened_source(args: argparse.Namespace) -> Source | None:

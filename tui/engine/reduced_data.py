@@ -67,16 +67,9 @@ class ReducedData:
         """Columns that are not numeric (each with its ``name``)."""
         return tuple(self.other.values())
 
-    def source_info(self) -> tuple[str, int, str, dict]:
-        """(name, rows, fingerprint, where) for the log's ``source`` and ``source.engine``:
-        rows counts every row of the relation, as a file's count does."""
-        o = self.origin
-        where = {
-            "engine": o.engine, "host": o.host, "database": o.database, "table": o.table,
-            "query_sha256": o.query_sha256, "rows": self.rows, "fingerprint": self.fingerprint,
-        }  # fmt: skip
-        total = self.rows + self.outcome.dropped_missing
-        return self.name, total, self.fingerprint, where
+    def source_info(self) -> SourceRecord:
+        """What the log records of this source."""
+        return source_record(self.origin, self.outcome, self.fingerprint)
 
     def counts(self, column: str) -> ReducedCounts:
         """The column's counts per distinct value or per bin."""
@@ -132,6 +125,42 @@ class ReducedData:
         every missing row at one value)."""
         group = self.missing_group(column)
         return None if group is None else compare_counts(recoding, self.counts(column), group, fill)
+
+
+@dataclass(frozen=True)
+class SourceRecord:
+    """What the log records of a source: ``source`` (name, rows, sha256) and the fields
+    of ``source.engine``."""
+
+    name: str
+    """The table, or ``query``."""
+    rows: int
+    """Every row of the relation, as a file's count does (with an outcome or not)."""
+    fingerprint: str
+    """The engine's fingerprint (also the log's ``source.sha256``)."""
+    where: dict[str, object]
+    """``source.engine``: engine, host, database, table, query_sha256, rows, fingerprint
+    (absent fields left out)."""
+
+
+def source_record(origin: SourceOrigin, outcome: SourceOutcome, fingerprint: str) -> SourceRecord:
+    """The log's record of a source whose outcome the engine counted."""
+    o = origin
+    where = {
+        "engine": o.engine, "host": o.host, "database": o.database, "table": o.table,
+        "query_sha256": o.query_sha256, "rows": outcome.rows, "fingerprint": fingerprint,
+    }  # fmt: skip
+    total = outcome.rows + outcome.dropped_missing
+    kept = {k: v for k, v in where.items() if v is not None}
+    return SourceRecord(o.table or "query", total, fingerprint, kept)
+
+
+def record_of(source: Source, outcome: str, event: str | None) -> SourceRecord:
+    """The log's record of ``source`` (the outcome coded and the fingerprint computed in
+    the engine), for data fetched from it rather than reduced."""
+    coded = source.code_outcome(outcome, event)
+    every = [c.name for c in source.columns() if c.name != outcome]
+    return source_record(source.origin, coded, source.fingerprint(every)[1])
 
 
 def reduce_data(

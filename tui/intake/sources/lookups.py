@@ -83,7 +83,7 @@ def fetch(reduction: SqlReduction, names: Sequence[str], cap: int, label: str) -
     )
     if rows > cap:
         raise InputProblem(
-            f"{label}: this check needs rows of {len(names)} column(s) and {rows:,} rows "
+            f"{label}: this command needs the rows of {len(names)} column(s), and {rows:,} rows "
             f"exceed the row cap of {cap:,}; raise --row-cap or narrow the data with --query"
         )
     wanted = list(dict.fromkeys(names))

@@ -29,7 +29,7 @@ def review_matches_file(source: Source, outcome: str, csv: Path, folder: Path) -
         data = reduce_data(source, outcome, None)
     finally:
         source.close()
-    session = open_source_session(data, folder / "source.recodings.json")
+    session = open_source_session(data, data.source_info(), folder / "source.recodings.json")
     file_session = open_session(csv, outcome, log_path=folder / "file.recodings.json")
     cache = FitCache(file_session.dataset, file_session.settings.max_levels)
     want = cache.fits(FitRequest(COLUMN, 4, 4))

@@ -143,3 +143,59 @@ def test_review_opens_on_the_database_and_equals_the_file(database, tmp_path):
     from tui.intake.sources import open_source
 
     review_matches_file(open_source(str(database), "cohort"), OUTCOME, COHORT, tmp_path)
+
+
+def _csv_scan(capsys, *args: str) -> str:
+    assert main(["scan", *args, "--format", "csv"]) == 0, capsys.readouterr().err
+    return capsys.readouterr().out
+
+
+def test_an_adjusted_scan_fetches_rows_up_to_the_cap(database, capsys):
+    # 5,000 rows: a cap of 5,000 fetches them and gives the file's adjusted scan exactly.
+    adjust = ("--outcome", OUTCOME, "--adjust", "age_years,ward", "--weight", "bmi")
+    want = _csv_scan(capsys, str(COHORT), *adjust)
+    got = _csv_scan(capsys, str(database), "--table", "cohort", *adjust, "--row-cap", "5000")
+    assert got == want
+
+
+def test_an_adjusted_scan_above_the_cap_stops_with_one_line(database, capsys):
+    args = ["scan", str(database), "--table", "cohort", "--outcome", OUTCOME]
+    assert main([*args, "--adjust", "age_years", "--row-cap", "4999"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "Traceback" not in err
+    assert "5,000 rows exceed the row cap of 4,999" in err and "--row-cap" in err
+
+
+def test_an_adjusted_review_fetches_under_the_cap_and_stops_above_it(
+    database, tmp_path, monkeypatch, capsys
+):
+    from tui.app.app import ReviewApp
+
+    opened = []
+    monkeypatch.setattr(ReviewApp, "run", lambda self: opened.append(self.session))
+    log = tmp_path / "r.recodings.json"
+    args = ["review", str(database), "--table", "cohort", "--outcome", OUTCOME, "--log", str(log)]
+    assert main([*args, "--adjust", "age_years", "--row-cap", "4999"]) == 2
+    assert "exceed the row cap of 4,999" in capsys.readouterr().err and not opened
+    assert main([*args, "--adjust", "age_years", "--row-cap", "5000"]) == 0
+    session = opened[-1]
+    assert session.adjust == ("age_years",) and session.dataset.rows == 5000
+    assert session.log.source.engine.table == "cohort"
+    assert main(args) == 0  # no covariates: the engine's counts, no rows fetched
+    assert type(opened[-1].dataset).__name__ == "ReducedData"
+
+
+def test_a_working_model_rescore_of_engine_counts_is_refused(database, tmp_path):
+    from tui.app.source_session import open_source_session
+    from tui.engine.reduced_data import reduce_data
+    from tui.intake.sources import open_source
+    from tui.problems import InputProblem
+
+    source = open_source(str(database), "cohort")
+    data = reduce_data(source, OUTCOME, None)
+    source.close()
+    session = open_source_session(data, data.source_info(), tmp_path / "log.json")
+    session.working_model = lambda: ("age_years",)  # as after a decision
+    with pytest.raises(InputProblem, match="keeps in its engine"):
+        session.model_basis()
+    session.book.close()

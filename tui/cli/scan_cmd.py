@@ -94,7 +94,8 @@ def run(args: argparse.Namespace) -> int:
         inputs = [("data file", args.data)] + ([("recoding log", args.log)] if args.log else [])
         check_output(args.output, inputs, args.force)
     rows = [*args.adjust, *([args.weight] if args.weight else [])]
-    data = fetched_rows(args, rows) if rows else None  # covariates need rows: capped
+    got = fetched_rows(args, rows) if rows else None  # covariates need rows: capped
+    data, listed = got if got is not None else (None, [])
     if data is None and not rows:
         source = opened_source(args)  # a database, Spark, or --engine duckdb: counts come back
         if source is not None:
@@ -113,7 +114,7 @@ def run(args: argparse.Namespace) -> int:
         if adjust is not None and adjust.covariates is not None
         else _two_passes(columns, data, settings, adjust)
     )
-    ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped])
+    ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped] + listed)
     return _write(args, ranked, adjust.describe() if adjust else "")
 
 

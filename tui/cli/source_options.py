@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 
 from tui.engine.pushed import scan_source
-from tui.engine.reduced_data import ReducedData, reduce_data
+from tui.engine.reduced_data import ReducedData, reduce_data, text_listing
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.intake.dataset import Dataset
 from tui.intake.sources import Source, open_source
@@ -61,13 +61,18 @@ def fetched(args: argparse.Namespace, also: list[str]) -> tuple[Dataset, Source]
         raise
 
 
-def fetched_rows(args: argparse.Namespace, also: list[str]) -> Dataset | None:
-    """``fetched`` with the source closed at once (the rows are all that is needed)."""
+def fetched_rows(
+    args: argparse.Namespace, also: list[str]
+) -> tuple[Dataset, list[ColumnScan]] | None:
+    """``fetched``, and the text columns left in the engine listed from its counts."""
     got = fetched(args, also)
     if got is None:
         return None
-    got[1].close()
-    return got[0]
+    data, source = got
+    try:
+        return data, text_listing(source, args.outcome, args.event, data.column_names)
+    finally:
+        source.close()
 
 
 def opened_source(args: argparse.Namespace) -> Source | None:

@@ -163,6 +163,19 @@ def record_of(source: Source, outcome: str, event: str | None) -> SourceRecord:
     return source_record(source.origin, coded, source.fingerprint(every)[1])
 
 
+def text_listing(
+    source: Source, outcome: str, event: str | None, fetched: Sequence[str]
+) -> list[ColumnScan]:
+    """The source's non-numeric columns not in ``fetched``, listed from engine counts
+    (as a file scan lists its text columns) without fetching them."""
+    coded = source.code_outcome(outcome, event)
+    names = [
+        c.name for c in source.columns() if not c.numeric and c.name not in (outcome, *fetched)
+    ]
+    _, other = source.reduce(coded, names, bin_plan()) if names else ([], [])
+    return [listed(c) for c in other]
+
+
 def reduce_data(
     source: Source,
     outcome: str,

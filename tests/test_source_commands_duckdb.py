@@ -199,3 +199,58 @@ def test_a_working_model_rescore_of_engine_counts_is_refused(database, tmp_path)
     with pytest.raises(InputProblem, match="keeps in its engine"):
         session.model_basis()
     session.book.close()
+
+
+def test_the_log_keeps_where_engine_data_lived_and_old_logs_load_as_before(database, tmp_path):
+    from conftest import GOLDEN
+
+    from tui.engine.reduced_data import reduce_data
+    from tui.intake.sources import open_source
+    from tui.recodings.model import EngineInfo, SourceInfo
+
+    query = "SELECT * FROM cohort WHERE age_years > 40"
+    source = open_source(str(database), query=query)
+    data = reduce_data(source, OUTCOME, None)
+    source.close()
+    record = data.source_info()
+    assert record.name == "query" and record.fingerprint == data.fingerprint
+    import hashlib
+
+    assert record.where["query_sha256"] == hashlib.sha256(query.encode()).hexdigest()
+    assert "table" not in record.where and "host" not in record.where
+    log = learned_log({"bmi": "quadratic"})
+    from dataclasses import replace
+
+    info = SourceInfo(record.name, record.rows, record.fingerprint, EngineInfo(**record.where))
+    path = tmp_path / "log.json"
+    recodings.save(replace(log, source=info), path)
+    assert recodings.load(path).source == info
+    text = path.read_text()
+    assert query not in text and '"query_sha256"' in text
+    old = recodings.load(GOLDEN / "every_kind.recodings.json")
+    assert old.source.engine is None
+
+
+def test_the_fingerprint_is_the_documented_hash(database):
+    # FORMAT.md: SHA-256 of [rows, events, [[column, finite count, sum to 10 digits], ...]].
+    import hashlib
+    import json
+
+    import numpy as np
+
+    from tui.engine.reduced_data import reduce_data
+    from tui.intake.sources import open_source
+
+    source = open_source(str(database), "cohort")
+    got = reduce_data(source, OUTCOME, None).fingerprint
+    source.close()
+    frame = pd.read_csv(COHORT)
+    columns = []
+    for name in frame.columns:
+        if name == OUTCOME or not pd.api.types.is_numeric_dtype(frame[name]):
+            continue
+        x = frame[name].to_numpy(dtype=float)
+        x = x[np.isfinite(x)]
+        columns.append([name, int(x.size), float(f"{x.sum():.10g}") if x.size else None])
+    text = json.dumps([len(frame), int(frame[OUTCOME].sum()), columns], separators=(",", ":"))
+    assert got == hashlib.sha256(text.encode()).hexdigest()

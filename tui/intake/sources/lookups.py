@@ -9,13 +9,29 @@ from __future__ import annotations
 
 import hashlib
 import json
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any, Protocol
 
 import numpy as np
 import pandas as pd
 
-from tui.intake.sources.reduce import SqlReduction
+from tui.intake.sources.base import SourceColumn
+from tui.intake.sources.dialect import Dialect
 from tui.problems import InputProblem
+
+
+class SqlReduction(Protocol):
+    """What these lookups read of ``reduce.SqlReduction`` (the outcome coded first)."""
+
+    dialect: Dialect
+    run: Callable[[str], list[tuple[Any, ...]]]
+    relation: str
+    columns: dict[str, SourceColumn]
+    outcome_name: str
+    _outcome: str
+
+    def _base(self, numeric: Sequence[SourceColumn]) -> str: ...
+
 
 SUM_DIGITS = 10
 """Significant digits of each column sum kept in the fingerprint: engines add in their own

@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bins
+from tui.intake.sources import bins, lookups
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -296,16 +296,10 @@ class ReducedInEngine:
     def tally(
         self, thresholds: Mapping[str, Sequence[float]]
     ) -> dict[str, tuple[int, np.ndarray, np.ndarray]]:
-        from tui.intake.sources.lookups import tally
-
-        return tally(self._reduction, thresholds)
+        return lookups.tally(self._reduction, thresholds)
 
     def fingerprint(self, names: Sequence[str]) -> tuple[int, str]:
-        from tui.intake.sources.lookups import fingerprint
-
-        return fingerprint(self._reduction, names)
+        return lookups.fingerprint(self._reduction, names)
 
     def fetch(self, names: Sequence[str], cap: int) -> pd.DataFrame:
-        from tui.intake.sources.lookups import fetch
-
-        return fetch(self._reduction, names, cap, self.label)
+        return lookups.fetch(self._reduction, names, cap, self.label)

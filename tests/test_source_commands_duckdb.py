@@ -5,6 +5,7 @@ the binning tolerance)."""
 from __future__ import annotations
 
 import duckdb
+import numpy as np
 import pandas as pd
 import pytest
 from conftest import SAMPLE
@@ -254,3 +255,30 @@ def test_the_fingerprint_is_the_documented_hash(database):
         columns.append([name, int(x.size), float(f"{x.sum():.10g}") if x.size else None])
     text = json.dumps([len(frame), int(frame[OUTCOME].sum()), columns], separators=(",", ":"))
     assert got == hashlib.sha256(text.encode()).hexdigest()
+
+
+def test_the_column_screen_fits_of_a_binned_column_equal_the_file(database, tmp_path):
+    # DuckDB's quantiles are exact, so a binned column's bins, groups and table are the file's.
+    from tui.app.fit_cache import FitCache, FitRequest
+    from tui.engine.reduced_data import reduce_data
+    from tui.intake.dataset import open_dataset
+    from tui.intake.sources import open_source
+
+    path = tmp_path / "binned.parquet"
+    binned_frame(rows=12_000, seed=5).to_parquet(path)
+    source = open_source(str(database), "binned")
+    data = reduce_data(source, "y", None)
+    source.close()
+    file_data = open_dataset(path, "y")
+    for column in ("skewed", "tied"):
+        got = FitCache(data, 1000).fits(FitRequest(column, 5, 4))
+        want = FitCache(file_data, 1000).fits(FitRequest(column, 5, 4))
+        assert not got.counts.exact and got.counts.x.size == want.counts.x.size
+        for a, b in zip(got.table.rows, want.table.rows, strict=True):
+            assert a.label == b.label
+            assert a.aic == pytest.approx(b.aic, rel=1e-9), (column, a.label)
+        assert [g.n for g in got.groups] == [g.n for g in want.groups]
+        assert got.tails == pytest.approx(want.tails, rel=1e-12)
+        assert data.deciles(column) == pytest.approx(
+            np.quantile(file_data.values(column)[np.isfinite(file_data.values(column))],
+                        [0.1 * k for k in range(1, 10)]), rel=1e-12)  # fmt: skip

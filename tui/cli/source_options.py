@@ -105,12 +105,8 @@ def reduced(
 
 
 def scan_results(source: Source, args: argparse.Namespace) -> list[ColumnScan]:
-    """Every column's scan from counts the engine reduced (q-values left for ``rank``)."""
-    if args.adjust or args.weight:
-        raise InputProblem(
-            f"--adjust and --weight need row-level covariates, which are not pulled from "
-            f"{source.label}; scan a file holding the columns they need"
-        )
+    """Every column's scan from counts the engine reduced (q-values left for ``rank``);
+    --adjust and --weight take the capped fetch instead (``fetched``)."""
     try:
         outcome = source.code_outcome(args.outcome, args.event)
         names = [c.name for c in source.columns()]

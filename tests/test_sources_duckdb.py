@@ -98,7 +98,8 @@ def test_outcome_with_three_values_gets_the_file_message(tmp_path, capsys):
         ((), "name --table NAME or --query SQL"),
         (("--table", "cohort", "--query", "SELECT 1"), "name --table NAME or --query SQL"),
         (("--table", "nowhere"), "nowhere"),
-        (("--table", "cohort", "--adjust", "age_years"), "--adjust and --weight"),
+        # --adjust fetches rows under --row-cap (5,000 rows here): above it, one line.
+        (("--table", "cohort", "--adjust", "age_years", "--row-cap", "10"), "row cap of 10"),
         (("--table", "cohort", "--exclude", "nope"), "unknown columns: nope"),
         (("--query", "SELEC broken"), "syntax"),
     ],

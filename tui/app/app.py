@@ -42,6 +42,7 @@ from tui.app.screens.recorded_view import RecordedView
 from tui.app.screens.triage import TriageScreen
 from tui.app.screens.value_prompt import ValuePrompt
 from tui.app.session import LogNotSaved, ReviewSession
+from tui.engine.reduced_data import ReducedData
 from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, rank
 from tui.engine.two_pass import TwoPassScan
@@ -164,6 +165,8 @@ class ReviewApp(App[None]):
         s = self.session
         adjust = s.adjustment(s.base)
         data = s.dataset
+        if isinstance(data, ReducedData):  # counts from the engine: the two passes score them
+            return TwoPassScan(s.columns, None, None, s.settings, reduced_of=data.reduced.get)
         args = (s.columns, data.raw_values, data.outcome.y, s.settings)
         if self.two_pass is not None and (adjust is None or adjust.covariates is None):
             return self.two_pass(*args, adjust=adjust)

@@ -19,6 +19,7 @@ from tui.engine.column_fits import CandidateSet, Fitted, fit_column
 from tui.engine.counts import ReducedCounts
 from tui.engine.exact_score import exact_score
 from tui.engine.forms.indicator import BELOW
+from tui.engine.reduced_data import ReducedData
 from tui.engine.scan import ColumnScan, ScanSettings, reduce_for_scan
 from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, SelectionShares, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset
@@ -70,7 +71,7 @@ class FitCache:
 
     def __init__(
         self,
-        dataset: Dataset | ColumnarDataset,
+        dataset: Dataset | ColumnarDataset | ReducedData,
         max_levels: int,
         adjustment: Callable[[Basis], Adjustment | None] = lambda basis: None,
     ) -> None:
@@ -105,6 +106,10 @@ class FitCache:
             if found is None and key in self._row_counts:
                 self._row_counts.move_to_end(key)
                 found = self._row_counts[key]
+        if found is None and isinstance(self._dataset, ReducedData):
+            found = self._dataset.counts(column)  # the engine's counts; bases are plain here
+            with self._lock:
+                self._counts[key] = found
         if found is None:
             x = self._dataset.raw_values(column)
             settings = ScanSettings(max_levels=self._max_levels)
@@ -161,6 +166,8 @@ class FitCache:
         with self._lock:
             if key in self._exact:
                 return self._exact[key]
+        if isinstance(self._dataset, ReducedData):
+            return None  # the rows stay in the engine: a binned source column keeps its score
         x = self._dataset.raw_values(column)
         found = exact_score(x, self._dataset.outcome.y, settings, column)
         with self._lock:

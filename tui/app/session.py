@@ -9,6 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
+import numpy as np
+
 from tui.app.basis import Adjustments, Basis
 from tui.app.view_state import ReviewView
 from tui.engine.adjust import Adjustment
@@ -22,6 +24,7 @@ from tui.engine.missing_group import (
     missing_group,
     training_median,
 )
+from tui.engine.reduced_data import ReducedData
 from tui.engine.scan import ColumnScan, ScanSettings
 from tui.engine.stability import SelectionShares
 from tui.intake.dataset import (
@@ -68,8 +71,8 @@ __all__ = [
 class ReviewSession:
     """The state of one review, shared by every screen."""
 
-    dataset: Dataset | ColumnarDataset
-    """The training data (rows with an outcome)."""
+    dataset: Dataset | ColumnarDataset | ReducedData
+    """The training data (rows with an outcome), or a source's counts (no rows)."""
     book: DecisionBook
     """The recoding log and every change to it (saved before it counts)."""
     settings: ScanSettings = field(default_factory=ScanSettings)
@@ -108,6 +111,8 @@ class ReviewSession:
         self._profiles: dict[str, ColumnProfile] = (
             {}
             if isinstance(self.dataset, ColumnarDataset)
+            else {n: self.dataset.profile(n) for n in self.dataset.columns}
+            if isinstance(self.dataset, ReducedData)
             else {p.name: p for p in self.dataset.numeric}
         )
         self.adjustments = Adjustments(
@@ -281,12 +286,37 @@ class ReviewSession:
             self.saved_note(column) if note is None else note,
             self.evidence(column, row, groups, knots, by_hand, basis, shares),
             {str(c) for c in self.dataset.column_names},
-            training_deciles(self.dataset.values(column)),
+            self.dataset.deciles(column)
+            if isinstance(self.dataset, ReducedData)
+            else training_deciles(self.dataset.values(column)),
         )
 
     def missing_group(self, column: str) -> MissingGroup | None:
         """The column's rows with a missing x, as a group (None when none is missing)."""
+        if isinstance(self.dataset, ReducedData):
+            return self.dataset.missing_group(column)
         return missing_group(self.dataset.raw_values(column), self.dataset.outcome.y)
+
+    def training_median(self, column: str) -> float:
+        """The median of the column's finite values (the fill proposed)."""
+        if isinstance(self.dataset, ReducedData):
+            return self.dataset.median(column)
+        return training_median(self.dataset.raw_values(column))
+
+    def preview_values(self, column: str) -> np.ndarray:
+        """Values to show a recoding applied to: the first rows of a file; for a source,
+        whose rows never leave the engine, the first distinct values (bin means when
+        binned) from its counts."""
+        if isinstance(self.dataset, ReducedData):
+            return self.dataset.counts(column).x
+        return self.dataset.values(column)
+
+    @property
+    def data_name(self) -> str:
+        """The data file's name, or the source's label (no secret in it)."""
+        if isinstance(self.dataset, ReducedData):
+            return self.dataset.label
+        return self.dataset.path.name
 
     def fill_comparison(self, column: str, fill: float | None = None) -> FillComparison | None:
         """The accepted form with a fill (default the training median), without and with a
@@ -295,8 +325,10 @@ class ReviewSession:
         decision = self.log.decision_for(column)
         if decision is None:
             return None
+        fill = self.training_median(column) if fill is None else fill
+        if isinstance(self.dataset, ReducedData):
+            return self.dataset.fill_comparison(column, decision.recoding, fill)
         x = self.dataset.raw_values(column)
-        fill = training_median(x) if fill is None else fill
         return compare_fills(decision.recoding, x, self.dataset.outcome.y, fill)
 
     def set_missing(self, column: str, rule: MissingFill | None) -> Decision:
@@ -344,7 +376,10 @@ class ReviewSession:
             basis.weight,
             basis.weight_kind,
         )
-        data = DataFingerprint(self.dataset.path.name, self.data_sha256)
+        shown = (
+            self.dataset.name if isinstance(self.dataset, ReducedData) else self.dataset.path.name
+        )
+        data = DataFingerprint(shown, self.data_sha256)
         evidence = judged_evidence(
             row, groups, knots, by_hand, scan, self.scan_finished, design, data
         )

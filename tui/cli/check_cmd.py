@@ -10,10 +10,12 @@ from tui.atomic import atomic_write_text
 from tui.cli.check_output import as_json, as_table
 from tui.cli.replay_cmd import _rename_pair
 from tui.cli.report_cmd import event_option
+from tui.cli.source_options import add_source_options, opened_source
 from tui.intake.dataset import open_dataset
 from tui.paths import same_file
 from tui.problems import InputProblem
-from tui.recodings.check import check_log
+from tui.recodings.check import ColumnCheck, check_log
+from tui.recodings.check_source import check_source
 
 
 def add_parser(commands: argparse._SubParsersAction) -> None:
@@ -24,7 +26,12 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         "it with linear; measure each column's drift against the training deciles.",
     )
     parser.add_argument("log", metavar="LOG", help="recoding log (.json)")
-    parser.add_argument("data", metavar="DATA", help="the later extract (csv, parquet, ...)")
+    parser.add_argument(
+        "data",
+        metavar="DATA",
+        help="the later extract: a file, PATH.duckdb, postgresql://... or spark:NAME",
+    )
+    add_source_options(parser)
     parser.add_argument("--format", choices=("table", "json"), default="table")
     parser.add_argument("--output", metavar="FILE", help="write here instead of stdout")
     parser.add_argument(
@@ -46,6 +53,10 @@ def run(args: argparse.Namespace) -> int:
         if args.output and same_file(args.output, source):
             raise InputProblem(f"--output {args.output} would overwrite {source}")
     log = recodings.load(args.log)
+    source = opened_source(args)
+    if source is not None:
+        checks = check_source(log, source, dict(args.rename))
+        return _write(args, checks, source.label)
     data = open_dataset(args.data, log.outcome_column, event_option(log.event))
     numeric = set(data.columns)
     for old, new in args.rename:
@@ -66,8 +77,11 @@ def run(args: argparse.Namespace) -> int:
     def values_of(name: str):
         return data.values(name) if name in numeric else None
 
-    checks = check_log(log, values_of, data.outcome.y, renames)
-    text = as_json(checks) if args.format == "json" else as_table(checks, data.path.name)
+    return _write(args, check_log(log, values_of, data.outcome.y, renames), data.path.name)
+
+
+def _write(args: argparse.Namespace, checks: list[ColumnCheck], name: str) -> int:
+    text = as_json(checks) if args.format == "json" else as_table(checks, name)
     if args.output:
         atomic_write_text(args.output, text)
     else:

@@ -6,6 +6,7 @@ import argparse
 from pathlib import Path
 
 from tui import recodings
+from tui.cli.source_options import add_source_options, reduced
 from tui.intake.dataset import open_dataset
 from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
 from tui.paths import check_output, write_output
@@ -24,7 +25,13 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
         "report (FILE ending .md or .html). Counts below --min-cell are not printed.",
     )
     parser.add_argument("log", metavar="LOG", help="recoding log (JSON)")
-    parser.add_argument("--data", required=True, metavar="DATA", help="data the log was made on")
+    parser.add_argument(
+        "--data",
+        required=True,
+        metavar="DATA",
+        help="data the log was made on: a file, PATH.duckdb, postgresql://... or spark:NAME",
+    )
+    add_source_options(parser)
     parser.add_argument("--output", required=True, metavar="FILE", help="report file: .md or .html")
     parser.add_argument("--force", action="store_true", help="replace FILE if it exists")
     parser.add_argument(
@@ -58,7 +65,9 @@ def run(args: argparse.Namespace) -> int:
         raise InputProblem(f"--output must end in .md or .html, not {target.name!r}")
     check_output(target, [("recoding log", args.log), ("data file", args.data)], args.force)
     log = recodings.load(args.log)
-    data = open_dataset(args.data, log.outcome_column, event_option(log.event))
+    data = reduced(args, log.outcome_column, event_option(log.event))
+    if data is None:
+        data = open_dataset(args.data, log.outcome_column, event_option(log.event))
     report = build_report(
         log, data, min_cell=args.min_cell, weight=args.weight, weight_kind=args.weight_kind
     )

@@ -10,7 +10,7 @@ from tui import recodings
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import ELIDE_HELP, as_csv, as_json, as_table
-from tui.cli.source_options import add_source_options, opened_source, scan_results
+from tui.cli.source_options import add_source_options, fetched_rows, opened_source, scan_results
 from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.flags import NOT_NUMERIC
 from tui.engine.runner import scan_columns
@@ -93,10 +93,15 @@ def run(args: argparse.Namespace) -> int:
     if args.output:
         inputs = [("data file", args.data)] + ([("recoding log", args.log)] if args.log else [])
         check_output(args.output, inputs, args.force)
-    source = opened_source(args)  # a database, Spark, or --engine duckdb: counts come back
-    if source is not None:
-        return _write(args, rank(scan_results(source, args)), "")
-    data = open_dataset(args.data, args.outcome, args.event, args.exclude)
+    rows = [*args.adjust, *([args.weight] if args.weight else [])]
+    got = fetched_rows(args, rows) if rows else None  # covariates need rows: capped
+    data, listed = got if got is not None else (None, [])
+    if data is None and not rows:
+        source = opened_source(args)  # a database, Spark, or --engine duckdb: counts come back
+        if source is not None:
+            return _write(args, rank(scan_results(source, args)), "")
+    if data is None:
+        data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     require_numeric(data, args.weight)
     forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
     adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
@@ -109,7 +114,7 @@ def run(args: argparse.Namespace) -> int:
         if adjust is not None and adjust.covariates is not None
         else _two_passes(columns, data, settings, adjust)
     )
-    ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped])
+    ranked = rank(results + [not_scanned(data, p.name) for p in data.skipped] + listed)
     return _write(args, ranked, adjust.describe() if adjust else "")
 
 

@@ -106,6 +106,11 @@ def open_adjustment(
     """Covariates (accepted forms from ``forms``) and weights; None when neither is asked."""
     if not adjust and not weight:
         return None
+    if not hasattr(data, "series"):  # counts reduced in an engine: no rows to adjust with
+        raise InputProblem(
+            f"covariates and weights need rows, which a review of {data.label} keeps in "
+            "its engine; start the review with --adjust (rows fetched under --row-cap)"
+        )
     _check_names(data, list(adjust), outcome, "adjustment column(s)")
     if weight and weight in adjust:
         raise InputProblem(f"{weight!r} cannot be both a weight and an adjustment column")

@@ -55,9 +55,32 @@ def stability_index(deciles: Sequence[float], x: np.ndarray) -> float | None:
     xs = np.sort(x)
     below = np.searchsorted(xs, edges, side="left")
     at_or_below = np.searchsorted(xs, edges, side="right")
+    return _index(merged, expected, below, at_or_below, x.size)
+
+
+def stability_from_tally(
+    deciles: Sequence[float], n: int, below: np.ndarray, at_or_below: np.ndarray
+) -> float | None:
+    """``stability_index`` from counts an engine tallied: ``n`` finite values, and how
+    many lie below and at or below each of the ``deciles`` as given (ties included)."""
+    if n == 0:
+        return None
+    given = np.asarray(deciles, dtype=float)
+    edges, first, merged = np.unique(given, return_index=True, return_counts=True)
+    if edges.size < MIN_DISTINCT_DECILES:
+        return None
+    expected = np.diff(np.concatenate(([0.0], np.cumsum(merged) / 10.0, [1.0])))
+    below = np.asarray(below, dtype=float)[first]
+    at_or_below = np.asarray(at_or_below, dtype=float)[first]
+    return _index(merged, expected, below, at_or_below, n)
+
+
+def _index(
+    merged: np.ndarray, expected: np.ndarray, below: np.ndarray, at_or_below: np.ndarray, n: int
+) -> float:
     # Several deciles at one value: that value's rows are the merged group's own.
     split = np.where(merged > 1, 1.0, 0.5)
-    mid = (below + split * (at_or_below - below)) / x.size
+    mid = (below + split * (at_or_below - below)) / n
     actual = np.diff(np.concatenate(([0.0], mid, [1.0])))
     a, e = np.maximum(actual, _SHARE_FLOOR), np.maximum(expected, _SHARE_FLOOR)
     return float(np.sum((a - e) * np.log(a / e)))

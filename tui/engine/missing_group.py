@@ -23,7 +23,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from tui.engine.counts import reduce_column
+from tui.engine.counts import ReducedCounts, reduce_column
 from tui.engine.fitting import fit_logistic
 from tui.engine.forms.base import MissingFill, Recoding
 from tui.engine.groups import empirical_logit
@@ -142,9 +142,16 @@ def compare_fills(
     group = missing_group(x, y)
     if group is None:
         return None
+    counts = reduce_column(np.asarray(x, dtype=float), np.asarray(y))
+    return compare_counts(recoding, counts, group, fill)
+
+
+def compare_counts(
+    recoding: Recoding, counts: ReducedCounts, group: MissingGroup, fill: float
+) -> FillComparison:
+    """``compare_fills`` from the complete cases' counts and the missing group."""
     if not np.isfinite(fill):
         raise ValueError(f"the fill must be a finite number, not {fill!r}")
-    counts = reduce_column(np.asarray(x, dtype=float), np.asarray(y))
     form = recoding.without_missing()
     values = np.append(counts.x, fill)
     events = np.append(counts.events, group.events)

@@ -15,7 +15,7 @@ few thousand numbers (about 40 kB), an exact one three numbers per distinct valu
 from __future__ import annotations
 
 import threading
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from dataclasses import dataclass
 from typing import Literal
@@ -70,8 +70,12 @@ class TwoPassScan:
         *,
         workers: int | None = None,
         adjust: Adjustment | None = None,
+        reduced_of: Callable[[str], ReducedColumn] | None = None,
     ) -> None:
+        """``reduced_of`` hands over counts reduced elsewhere (a source's engine); then
+        ``values_of`` and ``y`` are not read and workers receive the counts."""
         self.columns = list(columns)
+        self._reduced_of = reduced_of
         self._values_of, self._y, self._settings, self._adjust = values_of, y, settings, adjust
         count = default_workers() if workers is None else max(1, int(workers))
         self._workers = min(count, len(self.columns))
@@ -111,7 +115,7 @@ class TwoPassScan:
                     yield ScanStep("forms", self._second(name), done, total)
             return
         context = _start_method()
-        forked = context.get_start_method() == "fork"
+        forked = context.get_start_method() == "fork" and self._reduced_of is None
         if forked:
             executor = ProcessPoolExecutor(
                 self._workers,
@@ -173,6 +177,8 @@ class TwoPassScan:
             executor.shutdown(wait=False, cancel_futures=True)
 
     def _reduce(self, name: str) -> ReducedColumn:
+        if self._reduced_of is not None:
+            return self._reduced_of(name)
         x = self._values_of(name)
         return reduce_for_scan(x, self._y, self._settings, self._adjust, name)
 

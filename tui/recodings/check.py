@@ -145,7 +145,11 @@ def check_decision(decision: Decision, x: np.ndarray, y: np.ndarray) -> ColumnCh
     )
     if _kept_linear(decision):
         return base
-    counts = _counts(recoding, x, y)
+    return fitted_check(base, recoding, _counts(recoding, x, y))
+
+
+def fitted_check(base: ColumnCheck, recoding: Recoding, counts: ReducedCounts) -> ColumnCheck:
+    """The verdict of ``recoding`` against linear on ``counts`` (its numbers fixed)."""
     if counts.distinct < 2 or counts.total_events in (0, counts.rows):
         return _with(base, verdict=NOT_FITTED)
     with np.errstate(all="ignore"):

@@ -26,6 +26,7 @@ from tui.recodings.model import (
     FORMAT,
     FORMAT_VERSION,
     Decision,
+    EngineInfo,
     RecodingLog,
     SetAside,
     SourceInfo,
@@ -49,6 +50,7 @@ def to_document(log: RecodingLog) -> dict[str, Any]:
             "name": log.source.name,
             "rows": int(log.source.rows),
             "sha256": log.source.sha256,
+            **_engine_entry(log.source.engine),
         },
         "recodings": [_decision_entry(d, i) for i, d in enumerate(log.decisions)],
         "set_aside": [
@@ -118,6 +120,21 @@ def plain(value: Any, where: str, missing_as_null: bool = False) -> Any:
     raise TypeError(f"{where}: a {type(value).__name__} cannot be written to the log")
 
 
+ENGINE_KEYS = ("engine", "host", "database", "table", "query_sha256", "rows", "fingerprint")
+"""The keys of ``source.engine``, in the documented order (absent ones left out)."""
+
+
+def _engine_entry(info: EngineInfo | None) -> dict[str, Any]:
+    if info is None:
+        return {}
+    values = {k: getattr(info, k) for k in ENGINE_KEYS}
+    return {"engine": {k: v for k, v in values.items() if v is not None}}
+
+
+def _engine(entry: Mapping[str, Any] | None) -> EngineInfo | None:
+    return None if entry is None else EngineInfo(**entry)
+
+
 def from_document(document: Mapping[str, Any]) -> RecodingLog:
     """The log held by a schema-valid document; raises EntryProblem naming the entry."""
     outcome, source = document["outcome"], document["source"]
@@ -135,7 +152,12 @@ def from_document(document: Mapping[str, Any]) -> RecodingLog:
     return RecodingLog(
         outcome_column=outcome["column"],
         event=outcome["event"],
-        source=SourceInfo(name=source["name"], rows=source["rows"], sha256=source["sha256"]),
+        source=SourceInfo(
+            name=source["name"],
+            rows=source["rows"],
+            sha256=source["sha256"],
+            engine=_engine(source.get("engine")),
+        ),
         decisions=decisions,
         set_aside=set_aside,
         written_by=document["written_by"],

@@ -95,15 +95,38 @@ class SetAside:
 
 
 @dataclass(frozen=True)
+class EngineInfo:
+    """Training data that lived in an engine (DuckDB, PostgreSQL, Spark): where, without
+    any secret, and the engine's fingerprint of the rows (FORMAT.md, ``source.engine``)."""
+
+    engine: str
+    """``duckdb``, ``postgresql`` or ``spark``."""
+    rows: int
+    """Rows of the table or query with an outcome."""
+    fingerprint: str
+    """SHA-256 hex of counts and sums the engine computed (FORMAT.md says which)."""
+    host: str | None = None
+    """Host and port, or Spark master; None for a local file."""
+    database: str | None = None
+    """Database name, or the DuckDB file's name."""
+    table: str | None = None
+    """The table (or file read in place)."""
+    query_sha256: str | None = None
+    """SHA-256 hex of the query text, when the rows came from a query."""
+
+
+@dataclass(frozen=True)
 class SourceInfo:
     """The training data the decisions were made on."""
 
     name: str
-    """File name (no folders)."""
+    """File name (no folders), or a source's table name or ``query``."""
     rows: int
-    """Rows in the file."""
+    """Rows in the file (or the table or query)."""
     sha256: str
-    """SHA-256 of the file's bytes."""
+    """SHA-256 of the file's bytes; for a source, its engine fingerprint."""
+    engine: EngineInfo | None = None
+    """Set when the data lived in an engine."""
 
 
 @dataclass(frozen=True)

@@ -13,10 +13,11 @@ from tui.cautions import CAUTIONS
 from tui.engine.adjust import Adjustment, open_adjustment
 from tui.engine.column_fits import CandidateSet, fit_column
 from tui.engine.compare import ComparisonTable, FormFit
-from tui.engine.counts import ReducedCounts, reduce_column
+from tui.engine.counts import ReducedCounts
 from tui.engine.groups import logit_groups
 from tui.engine.plot_window import PlotWindow, plot_window
 from tui.engine.recorded import fit_recoding
+from tui.engine.reduced_data import ReducedData
 from tui.engine.runner import scan_columns
 from tui.engine.scan import Q_LINEAR, ScanSettings, rank, reduce_for_scan
 from tui.engine.score_words import SURVEY_LR_NOTE, statistics_word
@@ -30,6 +31,7 @@ from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
 from tui.report.missing_part import MissingPart, missing_part
+from tui.report.source_data import data_name, plain_counts, refuse_rows, source_lines
 from tui.report.words import params_in_words
 
 DERIVED_FROM_VALUES = (
@@ -177,24 +179,25 @@ def _withheld(count: float, min_cell: int, safe: bool) -> str:
 
 
 def _section(
-    data: Dataset | ColumnarDataset,
+    data: Dataset | ColumnarDataset | ReducedData,
     decision: Decision,
     min_cell: int,
     adjust: Adjustment | None,
 ) -> DecisionSection:
-    x = data.values(decision.column)
-    plain = reduce_column(x, data.outcome.y)  # groups show rows, unweighted, unadjusted
+    plain = plain_counts(data, decision.column)  # groups show rows, unweighted, unadjusted
     # An entry that did not record them reads as the scan's defaults (see Evidence).
     groups_n, knots_n = decision.evidence.groups, decision.evidence.knots
     settings = ScanSettings(groups=groups_n, knots=knots_n)
     counts = (
         plain
         if adjust is None
-        else reduce_for_scan(x, data.outcome.y, settings, adjust, decision.column).counts
+        else reduce_for_scan(
+            data.values(decision.column), data.outcome.y, settings, adjust, decision.column
+        ).counts
     )
     table = fit_column(counts, CandidateSet(groups_n, knots_n), smooth=False).table
     if table is None:  # no finite values, or one outcome class among the rows with one
-        raise InputProblem(f"{data.path.name}: '{decision.column}' cannot be fitted again")
+        raise InputProblem(f"{data_name(data)}: '{decision.column}' cannot be fitted again")
     # The accepted form appears once: its candidate row when the table holds the same
     # recoding, else the recorded one refitted first (its df by the one df rule).
     same = next((r for r in table.rows if r.recoding == decision.recoding), None)
@@ -263,7 +266,7 @@ def _section(
 
 def build_report(
     log: RecodingLog,
-    data: Dataset | ColumnarDataset,
+    data: Dataset | ColumnarDataset | ReducedData,
     min_cell: int = 10,
     now: datetime | None = None,
     weight: str | None = None,
@@ -280,36 +283,42 @@ def build_report(
     missing = [c for c in needed if c not in data.column_names]
     if missing:
         raise InputProblem(
-            f"{data.path.name} lacks column(s) the log recodes: {', '.join(missing)}"
+            f"{data_name(data)} lacks column(s) the log recodes: {', '.join(missing)}"
         )
     not_numeric = [c for c in needed if c not in data.columns]
     if not_numeric:
-        raise InputProblem(f"column(s) not numeric in {data.path.name}: {', '.join(not_numeric)}")
+        raise InputProblem(f"column(s) not numeric in {data_name(data)}: {', '.join(not_numeric)}")
 
     forms = {d.column: d.recoding for d in log.decisions}
-    weighted = open_adjustment(data, log.outcome_column, (), weight, weight_kind)
-    columns = [c for c in data.columns if c != weight]
-    scans = rank(
-        scan_columns(columns, data.raw_values, data.outcome.y, ScanSettings(), adjust=weighted)
-    )
+    if isinstance(data, ReducedData):
+        refuse_rows(data, log, weight)
+        scans = rank(data.scans(listed_too=False))
+    else:
+        weighted = open_adjustment(data, log.outcome_column, (), weight, weight_kind)
+        columns = [c for c in data.columns if c != weight]
+        scans = rank(
+            scan_columns(columns, data.raw_values, data.outcome.y, ScanSettings(), adjust=weighted)
+        )
 
     def adjustment_for(decision: Decision) -> Adjustment | None:
+        if isinstance(data, ReducedData):
+            return None
         covariates = decision.evidence.adjusted_for
         return open_adjustment(data, log.outcome_column, covariates, weight, weight_kind, forms)
 
     counts = decided_counts(log)
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
-    sha = file_sha256(data.path)
+    sha = data.fingerprint if isinstance(data, ReducedData) else file_sha256(data.path)
     adjust = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
     judged = {w for d in log.decisions if (w := d.evidence.weights.column)}
     weights = sorted(judged | ({f"{weight} ({weight_kind}), used here"} if weight else set()))
     y = data.outcome
+    named, hashed = source_lines(data, log, sha)
     fingerprint = {
-        "file": data.path.name,
+        **named,
         "rows with an outcome": str(data.rows),
         "rows dropped for a missing outcome": str(y.dropped_missing),
-        "sha256": sha,
-        "same file as the log's training data": "yes" if sha == log.source.sha256 else "no",
+        **hashed,
         "outcome": log.outcome_column,
         "event": str(log.event),
         "events": cell(y.events, min_cell),
@@ -331,7 +340,7 @@ def build_report(
     if weight and weight_kind == SURVEY:  # the design-based score (Binder 1983)
         ranked_by = "robust (sandwich) Wald test of the non-linear terms"
     intro = (
-        f"Each numeric candidate predictor of '{log.outcome_column}' in {data.path.name} was "
+        f"Each numeric candidate predictor of '{log.outcome_column}' in {data_name(data)} was "
         "checked for linearity on the log-odds scale: columns were ranked by the "
         f"{ranked_by} of a restricted cubic spline against a linear term, with "
         "Benjamini-Hochberg q-values across columns, and an analyst reviewed the grouped "

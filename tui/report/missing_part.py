@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 from tui.cautions import MISSING_CAUTION
 from tui.engine.missing_group import compare_fills, missing_group, training_median
+from tui.engine.reduced_data import ReducedData
 from tui.intake.dataset import ColumnarDataset, Dataset
 from tui.recodings.model import Decision
 from tui.report.cells import cell, group_is_safe
@@ -31,23 +32,34 @@ class MissingPart:
 
 
 def missing_part(
-    data: Dataset | ColumnarDataset, decision: Decision, min_cell: int
+    data: Dataset | ColumnarDataset | ReducedData, decision: Decision, min_cell: int
 ) -> MissingPart | None:
     """None when the column has no missing values among the rows with an outcome."""
-    x, y = data.raw_values(decision.column), data.outcome.y
-    group = missing_group(x, y)
+    column = decision.column
+    if isinstance(data, ReducedData):  # from the engine's counts
+        group = data.missing_group(column)
+    else:
+        x, y = data.raw_values(column), data.outcome.y
+        group = missing_group(x, y)
     if group is None:
         return None
     safe = group_is_safe(group.n, group.events, min_cell)
     rule = decision.recoding.missing
-    fill = rule.fill if rule is not None else training_median(x)
+    if rule is not None:
+        fill = rule.fill
+    else:
+        fill = data.median(column) if isinstance(data, ReducedData) else training_median(x)
     if rule is None:
         coded = "left missing (no outputs for those rows)"
     elif rule.indicator:
         coded = f"filled with {fmt_x(fill)}, flagged by `{decision.missing_indicator}`"
     else:
         coded = f"filled with {fmt_x(fill)}"
-    comparison = compare_fills(decision.recoding, x, y, fill)
+    comparison = (
+        data.fill_comparison(column, decision.recoding, fill)
+        if isinstance(data, ReducedData)
+        else compare_fills(decision.recoding, x, y, fill)
+    )
     assert comparison is not None  # a group exists
     ok = [
         f.aic if f.status == "ok" else None

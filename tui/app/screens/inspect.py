@@ -343,7 +343,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
             return
         self.view.drafts.pop(self.column, None)  # the note is in the log now
         self._after_change()
-        x = self.session.dataset.values(self.column)  # as replay reads it
+        x = self.session.preview_values(self.column)  # as replay reads it
         name = path_text(str(self.session.log_path), os.getcwd())
         self.app.push_screen(RecordedView(decision, x, name))
 

@@ -12,7 +12,6 @@ from tui.app.notices import not_saved, tell
 from tui.app.screens.missing_choice import FillChoice, MissingChoiceScreen
 from tui.app.session import LogNotSaved, ReviewSession
 from tui.app.widgets.missing_panel import MissingPanel
-from tui.engine.missing_group import training_median
 
 
 def show_panel(screen: Screen, session: ReviewSession, column: str, fits: ColumnFits) -> None:
@@ -29,7 +28,6 @@ def open_choice(
     if decision is None:
         tell(screen, "accept a form first (a or l): the choice is for the accepted form")
         return
-    x = session.dataset.raw_values(column)
     comparison = session.fill_comparison(column)
     if comparison is None:
         tell(screen, f"{column} has no missing values", timeout=3)
@@ -40,7 +38,7 @@ def open_choice(
         form,
         comparison,
         lambda fill: session.fill_comparison(column, fill),
-        training_median(x),
+        session.training_median(column),
     )
     screen.app.push_screen(chooser, lambda choice: _chosen(screen, session, column, choice, after))
 

@@ -108,7 +108,7 @@ class TriageScreen(Screen[None]):
         s = self.session
         outcome = s.dataset.outcome
         yield Line(
-            f"bendwise review · {s.dataset.path.name} · outcome {outcome.column} "
+            f"bendwise review · {s.data_name} · outcome {outcome.column} "
             f"(event {outcome.event})" + (" · READ-ONLY" if s.book.read_only else ""),
             id="title",
         )

@@ -7,6 +7,7 @@ from tui.intake.sources.base import (
     PushedColumn,
     Source,
     SourceColumn,
+    SourceOrigin,
     SourceOutcome,
 )
 
@@ -17,6 +18,7 @@ __all__ = [
     "PushedColumn",
     "Source",
     "SourceColumn",
+    "SourceOrigin",
     "SourceOutcome",
 ]
 

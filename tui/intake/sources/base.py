@@ -9,10 +9,12 @@ counts a file scan builds (``tui.engine.pushed``).
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Protocol
 
 import numpy as np
+import pandas as pd
 
 
 @dataclass(frozen=True)
@@ -113,11 +115,36 @@ class SourceOutcome:
         return self.events + self.nonevents
 
 
+@dataclass(frozen=True)
+class SourceOrigin:
+    """Where a source's rows live, without any secret: what the log records."""
+
+    engine: str
+    """``duckdb``, ``postgresql`` or ``spark``."""
+    host: str | None = None
+    """Server host and port (PostgreSQL) or Spark master; None for a local file."""
+    database: str | None = None
+    """Database name, or the DuckDB file's name."""
+    table: str | None = None
+    """Table (or file read in place) named by the command."""
+    query_sha256: str | None = None
+    """SHA-256 hex of the query text as given, when the rows come from a query."""
+
+
+def query_hash(query: str | None) -> str | None:
+    """SHA-256 hex of a query's text (UTF-8, exactly as given), or None."""
+    import hashlib
+
+    return None if query is None else hashlib.sha256(query.encode()).hexdigest()
+
+
 class Source(Protocol):
     """A table or query in an engine, opened for scanning."""
 
     label: str
     """Where the data live, without any secret (engine, host, database, table)."""
+    origin: SourceOrigin
+    """The same, as fields for the log."""
 
     def columns(self) -> list[SourceColumn]:
         """Every column, in the engine's order."""
@@ -131,6 +158,20 @@ class Source(Protocol):
         self, outcome: SourceOutcome, names: list[str], plan: BinPlan
     ) -> tuple[list[PushedColumn], list[OtherColumn]]:
         """Reduce the named columns (numeric ones to counts, others to a listing)."""
+        ...
+
+    def tally(
+        self, thresholds: Mapping[str, Sequence[float]]
+    ) -> dict[str, tuple[int, np.ndarray, np.ndarray]]:
+        """Per column: finite rows, and rows below and at or below each threshold."""
+        ...
+
+    def fingerprint(self, names: Sequence[str]) -> tuple[int, str]:
+        """(rows with an outcome, SHA-256 of engine-computed counts and sums)."""
+        ...
+
+    def fetch(self, names: Sequence[str], cap: int) -> pd.DataFrame:
+        """Outcome and named columns of every row with an outcome; refused above ``cap``."""
         ...
 
     def close(self) -> None:

@@ -10,7 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from tui.intake.sources.base import SourceColumn
+from tui.intake.sources.base import SourceColumn, SourceOrigin, query_hash
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
@@ -30,7 +30,9 @@ def _numeric(type_name: str) -> bool:
 class DuckDBSource(ReducedInEngine):
     """A DuckDB relation, reduced by DuckDB."""
 
-    def __init__(self, relation: str, label: str, database: str | None = None) -> None:
+    def __init__(
+        self, relation: str, label: str, origin: SourceOrigin, database: str | None = None
+    ) -> None:
         try:
             import duckdb
         except ImportError:
@@ -44,7 +46,7 @@ class DuckDBSource(ReducedInEngine):
             )
         except duckdb.Error as problem:
             raise InputProblem(f"{label}: cannot open: {problem}") from None
-        self.label = label
+        self.label, self.origin = label, origin
         self.relation = relation
         self.dialect = Dialect()
         described = self._run(f"DESCRIBE SELECT * FROM {relation} AS s")
@@ -68,7 +70,8 @@ def open_duckdb_database(path: str, table: str | None, query: str | None) -> Duc
         raise InputProblem(f"DuckDB database {path} not found")
     relation = Dialect().relation(table, query)
     what = f"table {table}" if table else "query"
-    return DuckDBSource(relation, f"duckdb {Path(path).name} {what}", database=path)
+    origin = SourceOrigin("duckdb", None, Path(path).name, table, query_hash(query))
+    return DuckDBSource(relation, f"duckdb {Path(path).name} {what}", origin, database=path)
 
 
 def open_file_through_duckdb(path: str) -> DuckDBSource:
@@ -80,4 +83,5 @@ def open_file_through_duckdb(path: str) -> DuckDBSource:
         raise InputProblem(f"data file {path} not found")
     d = Dialect()
     relation = f"{FILE_READERS[suffix]}({d.text(str(path))})"
-    return DuckDBSource(relation, f"duckdb {Path(path).name}")
+    origin = SourceOrigin("duckdb", None, None, Path(path).name)
+    return DuckDBSource(relation, f"duckdb {Path(path).name}", origin)

@@ -12,7 +12,7 @@ from typing import Any
 
 import numpy as np
 
-from tui.intake.sources.base import SourceColumn
+from tui.intake.sources.base import SourceColumn, SourceOrigin, query_hash
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.postgres_url import checked_url, redacted, scrub
 from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
@@ -63,6 +63,7 @@ class PostgresSource(ReducedInEngine):
         relation = self.dialect.relation(table, query)
         what = f"table {table}" if table else "query"
         self.label = f"{redacted(url)} {what}"
+        self.origin = url_origin(self._url, table, query_hash(query))
         try:
             self._con = psycopg.connect(self._url, autocommit=True)
         except psycopg.Error as problem:
@@ -94,3 +95,15 @@ class PostgresSource(ReducedInEngine):
 
     def close(self) -> None:
         self._con.close()
+
+
+def url_origin(url: str, table: str | None, query_sha256: str | None) -> SourceOrigin:
+    """Host, port and database of a checked URL (no user, no password)."""
+    from urllib.parse import urlsplit
+
+    parts = urlsplit(url)
+    host = parts.hostname or None
+    if host and parts.port:
+        host = f"{host}:{parts.port}"
+    database = parts.path.lstrip("/") or None
+    return SourceOrigin("postgresql", host, database, table, query_sha256)

@@ -13,14 +13,14 @@ Every answer is per column, per distinct value or per bin; no row leaves the eng
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bins
+from tui.intake.sources import bins, lookups
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -45,6 +45,7 @@ class SqlReduction:
         self.columns = {c.name: c for c in columns}
         self._y = ""
         self._outcome = ""
+        self.outcome_name = ""
 
     def code(self, column: str, event: str | None) -> SourceOutcome:
         """Code the outcome by the file rules, from its levels and their counts."""
@@ -77,7 +78,7 @@ class SqlReduction:
         counts = np.array([int(n) for _, n in levels], dtype=np.int64)
         events = int(counts[coded.y == 1].sum())
         raw = next(level for (level, _), flag in zip(levels, coded.y, strict=True) if flag)
-        self._outcome = q
+        self._outcome, self.outcome_name = q, column
         self._y = f"CASE WHEN {q} = {self.dialect.literal(raw)} THEN 1 ELSE 0 END"
         return SourceOutcome(column, coded.event, events, int(present) - events, total - present)
 
@@ -279,6 +280,7 @@ class ReducedInEngine:
 
     _columns: list[SourceColumn]
     _reduction: SqlReduction
+    label: str
 
     def columns(self) -> list[SourceColumn]:
         return list(self._columns)
@@ -290,3 +292,14 @@ class ReducedInEngine:
         self, outcome: SourceOutcome, names: list[str], plan: BinPlan
     ) -> tuple[list[PushedColumn], list[OtherColumn]]:
         return self._reduction.reduce(outcome, names, plan)
+
+    def tally(
+        self, thresholds: Mapping[str, Sequence[float]]
+    ) -> dict[str, tuple[int, np.ndarray, np.ndarray]]:
+        return lookups.tally(self._reduction, thresholds)
+
+    def fingerprint(self, names: Sequence[str]) -> tuple[int, str]:
+        return lookups.fingerprint(self._reduction, names)
+
+    def fetch(self, names: Sequence[str], cap: int) -> pd.DataFrame:
+        return lookups.fetch(self._reduction, names, cap, self.label)

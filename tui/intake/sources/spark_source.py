@@ -19,7 +19,7 @@ from typing import Any
 
 import numpy as np
 
-from tui.intake.sources.base import SourceColumn
+from tui.intake.sources.base import SourceColumn, SourceOrigin
 from tui.intake.sources.dialect import Dialect
 from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
@@ -94,6 +94,7 @@ class SparkSource(ReducedInEngine):
         self._session = spark_session(master)
         self.dialect = SparkDialect()
         self.label = f"spark {name}"
+        self.origin = SourceOrigin("spark", master or DEFAULT_MASTER, None, name)
         from pyspark.errors import PySparkException
 
         self._errors: tuple[type[Exception], ...] = (PySparkException,)

@@ -1,0 +1,63 @@
+"""A review of a source whose rows never leave its engine: the session holds the counts
+the engine reduced (``ReducedData``) instead of a data file, and the log records where the
+rows live (``source.engine``) with the engine's fingerprint instead of a file's hash."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from tui.app.session import ReviewSession
+from tui.engine.reduced_data import ReducedData, SourceRecord
+from tui.engine.scan import ScanSettings
+from tui.intake.dataset import Dataset
+from tui.intake.weights import FREQUENCY
+from tui.problems import InputProblem
+from tui.recodings.decisions import DecisionBook, check_log_place, open_log, take_log
+from tui.recodings.model import EngineInfo, SourceInfo
+
+
+def open_source_session(
+    data: ReducedData | Dataset,
+    record: SourceRecord,
+    log_path: str | Path | None = None,
+    settings: ScanSettings | None = None,
+    adjust: tuple[str, ...] | list[str] = (),
+    weight: str | None = None,
+    weight_kind: str = FREQUENCY,
+    read_only: bool = False,
+    take_over: bool = False,
+    analyst: str | None = None,
+) -> ReviewSession:
+    """Lock the log (default ``<table or query>.recodings.json`` here) and review the
+    source's counts, or the rows fetched from it for covariates and weights (``adjust``,
+    ``weight``). Raises InputProblem."""
+    if not [c for c in data.columns if c != weight]:
+        raise InputProblem(
+            f"{record.name} has no numeric column to scan besides the outcome"
+            + (" and the weight" if weight else "")
+        )
+    path = Path(log_path) if log_path is not None else Path(f"{record.name}.recodings.json")
+    check_log_place(path, Path(record.name + ".no-data-file"))  # no file: folder checked
+    access = take_log(path, read_only, take_over, analyst)
+    try:
+        engine = EngineInfo(**record.where)  # type: ignore[arg-type]
+        source = SourceInfo(record.name, record.rows, record.fingerprint, engine)
+        log, warning = open_log(path, data.outcome.column, data.outcome.event, source)
+        book = DecisionBook(log, path, read_only=access.read_only, lock=access.lock)
+        if analyst:
+            book.analyst = analyst
+        return ReviewSession(
+            data,
+            book,
+            settings or ScanSettings(),
+            warning,
+            adjust=tuple(adjust),
+            weight=weight,
+            weight_kind=weight_kind if weight else None,
+            data_sha256=record.fingerprint,
+            access_notice=access.notice,
+        )
+    except BaseException:
+        if access.lock is not None:
+            access.lock.release()
+        raise

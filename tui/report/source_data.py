@@ -1,0 +1,52 @@
+"""What a report reads differently when DATA is a source reduced in its engine: the
+column's counts come from the engine, the data are named by their label and fingerprint."""
+
+from __future__ import annotations
+
+from tui.engine.counts import ReducedCounts, reduce_column
+from tui.engine.reduced_data import ReducedData
+from tui.intake.dataset import ColumnarDataset, Dataset
+from tui.problems import InputProblem
+from tui.recodings.model import RecodingLog
+
+Data = Dataset | ColumnarDataset | ReducedData
+
+
+def data_name(data: Data) -> str:
+    """The file's name, or the source's label (no secret in it)."""
+    return data.label if isinstance(data, ReducedData) else data.path.name
+
+
+def plain_counts(data: Data, column: str) -> ReducedCounts:
+    """The column's counts, unweighted and unadjusted (finite values only)."""
+    if isinstance(data, ReducedData):
+        return data.counts(column)
+    return reduce_column(data.values(column), data.outcome.y)
+
+
+def refuse_rows(data: ReducedData, log: RecodingLog, weight: str | None) -> None:
+    """Weights and covariates need rows, which a report never pulls from a source."""
+    adjusted = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
+    if weight or adjusted:
+        what = f"--weight {weight}" if weight else "decisions adjusted for " + ", ".join(adjusted)
+        raise InputProblem(
+            f"{what}: a report recomputes these from rows, which are not pulled from "
+            f"{data.label}; report on a file holding the columns they need"
+        )
+
+
+def source_lines(data: Data, log: RecodingLog, sha: str) -> tuple[dict, dict]:
+    """The fingerprint's lines naming the data (before the row counts) and hashing them
+    (after): a file by name and SHA-256 of its bytes, a source by label and fingerprint."""
+    if not isinstance(data, ReducedData):
+        same = "yes" if sha == log.source.sha256 else "no"
+        return {"file": data.path.name}, {
+            "sha256": sha,
+            "same file as the log's training data": same,
+        }
+    trained = log.source.engine
+    same = "yes" if trained is not None and trained.fingerprint == sha else "no"
+    return {"source": data.label}, {
+        "fingerprint": sha,
+        "same data as the log's training data": same,
+    }

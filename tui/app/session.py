@@ -41,6 +41,7 @@ from tui.recodings.decisions import (
     RECODED,
     SET_ASIDE,
     UNDECIDED,
+    Access,
     DecidedCounts,
     DecisionBook,
     Design,
@@ -410,25 +411,42 @@ def open_session(
     try:
         dataset = open_dataset(data, outcome, event, exclude)
         require_numeric(dataset, weight)
-        sha = file_sha256(data)
-        coded = dataset.outcome
-        source = SourceInfo(name=data.name, rows=int(coded.keep.size), sha256=sha)
-        log, warning = open_log(path, coded.column, coded.event, source)
-        book = DecisionBook(log, path, read_only=access.read_only, lock=access.lock)
-        if analyst:
-            book.analyst = analyst
-        return ReviewSession(  # builds the covariates and weights: may refuse them
-            dataset,
-            book,
-            settings or ScanSettings(),
-            warning,
-            adjust=tuple(adjust),
-            weight=weight,
-            weight_kind=weight_kind if weight else None,
-            data_sha256=sha,
-            access_notice=access.notice,
+        rows = int(dataset.outcome.keep.size)
+        source = SourceInfo(name=data.name, rows=rows, sha256=file_sha256(data))
+        return session_on_log(
+            dataset, source, path, access, settings, adjust, weight, weight_kind, analyst
         )
     except BaseException:
         if access.lock is not None:
             access.lock.release()
         raise
+
+
+def session_on_log(
+    data: Dataset | ReducedData,
+    source: SourceInfo,
+    path: Path,
+    access: Access,
+    settings: ScanSettings | None,
+    adjust: tuple[str, ...] | list[str],
+    weight: str | None,
+    weight_kind: str,
+    analyst: str | None,
+) -> ReviewSession:
+    """Read the log held by ``access`` (or start an empty one) and build the session on
+    ``data``; the caller releases the lock if this raises."""
+    log, warning = open_log(path, data.outcome.column, data.outcome.event, source)
+    book = DecisionBook(log, path, read_only=access.read_only, lock=access.lock)
+    if analyst:
+        book.analyst = analyst
+    return ReviewSession(  # builds the covariates and weights: may refuse them
+        data,
+        book,
+        settings or ScanSettings(),
+        warning,
+        adjust=tuple(adjust),
+        weight=weight,
+        weight_kind=weight_kind if weight else None,
+        data_sha256=source.sha256,
+        access_notice=access.notice,
+    )

@@ -6,13 +6,13 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from tui.app.session import ReviewSession
+from tui.app.session import ReviewSession, session_on_log
 from tui.engine.reduced_data import ReducedData, SourceRecord
 from tui.engine.scan import ScanSettings
 from tui.intake.dataset import Dataset
 from tui.intake.weights import FREQUENCY
 from tui.problems import InputProblem
-from tui.recodings.decisions import DecisionBook, check_log_place, open_log, take_log
+from tui.recodings.decisions import check_log_place, take_log
 from tui.recodings.model import EngineInfo, SourceInfo
 
 
@@ -42,20 +42,8 @@ def open_source_session(
     try:
         engine = EngineInfo(**record.where)  # type: ignore[arg-type]
         source = SourceInfo(record.name, record.rows, record.fingerprint, engine)
-        log, warning = open_log(path, data.outcome.column, data.outcome.event, source)
-        book = DecisionBook(log, path, read_only=access.read_only, lock=access.lock)
-        if analyst:
-            book.analyst = analyst
-        return ReviewSession(
-            data,
-            book,
-            settings or ScanSettings(),
-            warning,
-            adjust=tuple(adjust),
-            weight=weight,
-            weight_kind=weight_kind if weight else None,
-            data_sha256=record.fingerprint,
-            access_notice=access.notice,
+        return session_on_log(
+            data, source, path, access, settings, adjust, weight, weight_kind, analyst
         )
     except BaseException:
         if access.lock is not None:

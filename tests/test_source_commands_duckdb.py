@@ -282,3 +282,21 @@ def test_the_column_screen_fits_of_a_binned_column_equal_the_file(database, tmp_
         assert data.deciles(column) == pytest.approx(
             np.quantile(file_data.values(column)[np.isfinite(file_data.values(column))],
                         [0.1 * k for k in range(1, 10)]), rel=1e-12)  # fmt: skip
+
+
+def test_no_command_writes_over_the_database_it_reads(database, tmp_path, monkeypatch, capsys):
+    # The rule every writer follows (never over an input) holds for a database file too.
+    from tui.app.app import ReviewApp
+
+    monkeypatch.setattr(ReviewApp, "run", lambda self: None)
+    before = database.read_bytes()
+    base = [str(database), "--table", "cohort", "--outcome", OUTCOME]
+    for args in (
+        ["review", *base, "--log", str(database)],
+        ["scan", *base, "--output", str(database), "--force"],
+    ):
+        assert main(args) == 2
+        err = capsys.readouterr().err
+        assert err.count("\n") == 1 and "Traceback" not in err
+        assert str(database) in err and ("data file" in err or "overwrite" in err)
+    assert database.read_bytes() == before

@@ -27,17 +27,22 @@ def open_source_session(
     read_only: bool = False,
     take_over: bool = False,
     analyst: str | None = None,
+    data_path: str | Path | None = None,
 ) -> ReviewSession:
     """Lock the log (default ``<table or query>.recodings.json`` here) and review the
     source's counts, or the rows fetched from it for covariates and weights (``adjust``,
-    ``weight``). Raises InputProblem."""
+    ``weight``). ``data_path`` is the file the source reads, if any: the log never goes
+    over it. Raises InputProblem."""
     if not [c for c in data.columns if c != weight]:
         raise InputProblem(
             f"{record.name} has no numeric column to scan besides the outcome"
             + (" and the weight" if weight else "")
         )
     path = Path(log_path) if log_path is not None else Path(f"{record.name}.recodings.json")
-    check_log_place(path, Path(record.name + ".no-data-file"))  # no file: folder checked
+    # a database URL or catalog table has no file: only the log's folder is checked
+    check_log_place(
+        path, Path(data_path if data_path is not None else record.name + ".no-data-file")
+    )
     access = take_log(path, read_only, take_over, analyst)
     try:
         engine = EngineInfo(**record.where)  # type: ignore[arg-type]

@@ -12,6 +12,7 @@ from tui.cli.replay_cmd import _rename_pair
 from tui.cli.report_cmd import event_option
 from tui.cli.source_options import add_source_options, opened_source
 from tui.intake.dataset import open_dataset
+from tui.intake.sources import local_path
 from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.recodings.check import ColumnCheck, check_log
@@ -49,7 +50,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    for source in (args.log, args.data):
+    for source in (args.log, local_path(args.data)):
         if args.output and same_file(args.output, source):
             raise InputProblem(f"--output {args.output} would overwrite {source}")
     log = recodings.load(args.log)

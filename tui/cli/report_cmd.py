@@ -8,6 +8,7 @@ from pathlib import Path
 from tui import recodings
 from tui.cli.source_options import add_source_options, reduced
 from tui.intake.dataset import open_dataset
+from tui.intake.sources import local_path
 from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
 from tui.paths import check_output, write_output
 from tui.problems import InputProblem
@@ -63,7 +64,9 @@ def run(args: argparse.Namespace) -> int:
     render = RENDERERS.get(target.suffix.lower())
     if render is None:
         raise InputProblem(f"--output must end in .md or .html, not {target.name!r}")
-    check_output(target, [("recoding log", args.log), ("data file", args.data)], args.force)
+    check_output(
+        target, [("recoding log", args.log), ("data file", local_path(args.data))], args.force
+    )
     log = recodings.load(args.log)
     data = reduced(args, log.outcome_column, event_option(log.event))
     if data is None:

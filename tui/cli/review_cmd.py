@@ -66,6 +66,7 @@ def _source_session(args: argparse.Namespace, settings: ScanSettings) -> ReviewS
     --row-cap; None when DATA is a file."""
     from tui.app.source_session import open_source_session
     from tui.engine.reduced_data import record_of
+    from tui.intake.sources import local_path
 
     rows = [*args.adjust, *([args.weight] if args.weight else [])]
     common = dict(
@@ -74,6 +75,7 @@ def _source_session(args: argparse.Namespace, settings: ScanSettings) -> ReviewS
         read_only=args.read_only,
         take_over=args.take_over,
         analyst=args.analyst,
+        data_path=local_path(args.data),
     )
     if not rows:
         data = reduced(args, args.outcome, args.event, None, args.exclude)

@@ -17,6 +17,7 @@ from tui.engine.runner import scan_columns
 from tui.engine.scan import ColumnScan, ScanSettings, rank
 from tui.engine.two_pass import TwoPassScan
 from tui.intake.dataset import ColumnarDataset, Dataset, open_dataset, require_numeric
+from tui.intake.sources import local_path
 from tui.paths import check_output, write_output
 
 STAGES = {"score": "scores", "forms": "forms"}
@@ -91,7 +92,9 @@ def _adjusted(
 
 def run(args: argparse.Namespace) -> int:
     if args.output:
-        inputs = [("data file", args.data)] + ([("recoding log", args.log)] if args.log else [])
+        inputs = [("data file", local_path(args.data))] + (
+            [("recoding log", args.log)] if args.log else []
+        )
         check_output(args.output, inputs, args.force)
     rows = [*args.adjust, *([args.weight] if args.weight else [])]
     got = fetched_rows(args, rows) if rows else None  # covariates need rows: capped

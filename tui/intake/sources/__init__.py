@@ -64,6 +64,13 @@ def open_source(
     return None
 
 
+def local_path(data: str) -> str:
+    """The file on this machine that DATA reads (a DuckDB database, a file through DuckDB,
+    a Parquet path given to Spark), for the check that no output is written over it; a
+    database URL or a catalog table gives a path that does not exist."""
+    return data[len("spark:") :] if data.startswith("spark:") else data
+
+
 def _shown(data: str) -> str:
     from tui.intake.sources.postgres_url import is_postgres_url, redacted
 

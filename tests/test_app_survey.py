@@ -44,7 +44,7 @@ def test_scores_name_their_statistic_on_every_screen(tmp_path: Path, monkeypatch
             screen = pilot.app.screen
             assert isinstance(screen, InspectScreen)
             assert f"on {scan.df} df ({statistic})" in text_of(screen, "#evidence")
-            approximate = "LR p approximate" in text_of(screen, "#shares")
+            approximate = "LR p and ΔAIC approximate" in text_of(screen, "#shares")
             assert approximate == (kind == "survey")
             screen.query_one(FormsTable).move_to_key("quadratic")
             await pilot.pause()

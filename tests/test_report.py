@@ -203,5 +203,5 @@ def test_survey_weighted_report_names_the_robust_wald_and_approximate_lr(tmp_pat
     assert "robust (sandwich) Wald test" in report.intro
     text = render_markdown(report)
     assert "score statistic Wald (robust)" in text
-    assert "LR p approximate: survey weights, sampling design ignored" in text
-    assert "LR p approximate" in render_html(report)
+    assert "LR p and ΔAIC approximate: survey weights, sampling design ignored" in text
+    assert "LR p and ΔAIC approximate" in render_html(report)

@@ -18,14 +18,16 @@ STATISTIC_LINE = {
         "terms with a robust (sandwich, HC0) covariance (statistic Wald (robust); Binder 1983, "
         "White 1980); where tied values leave no knots, the likelihood-ratio test of one "
         "indicator per distinct value, which ignores the sampling design (statistic LR "
-        "(approximate)); q = Benjamini-Hochberg."
+        "(approximate)); q = Benjamini-Hochberg. Under survey weights ΔAIC and best forms come "
+        "from the weighted pseudo-likelihood, which is not a true likelihood: a guide only."
     ),
 }
 """The scan table's line under the scores: ``True`` when some score is not a plain LR."""
 
-SURVEY_LR_NOTE = "LR p approximate: survey weights, sampling design ignored"
+SURVEY_LR_NOTE = "LR p and ΔAIC approximate: survey weights, sampling design ignored"
 """Under a candidate table fitted with survey weights: its LR p column is a pseudo-likelihood
-ratio read against chi-square."""
+ratio read against chi-square, and its AIC a pseudo-likelihood's (no design-based AIC is
+computed), so both are a guide only."""
 
 MEANING = {
     LR: "likelihood-ratio chi-square",

@@ -118,7 +118,9 @@ def test_report_equals_the_file_but_for_the_data_lines(database, tmp_path):
     assert "| fingerprint | " in text
 
 
-def test_a_report_of_adjusted_decisions_on_a_source_is_refused(database, tmp_path, capsys):
+def test_a_report_of_adjusted_decisions_fetches_rows_under_the_cap(database, tmp_path, capsys):
+    # Covariates need rows: the report fetches them under --row-cap and then equals the
+    # file's report; above the cap it stops with one line and writes nothing.
     log = learned_log({"bmi": "quadratic"})
     first = log.decisions[0]
     adjusted = Decision.make(
@@ -132,10 +134,18 @@ def test_a_report_of_adjusted_decisions_on_a_source_is_refused(database, tmp_pat
     path = tmp_path / "log.json"
     recodings.save(replace(log, decisions=(adjusted,)), path)
     args = ["report", str(path), "--data", str(database), "--table", "cohort"]
-    assert main([*args, "--output", str(tmp_path / "r.md")]) == 2
+    assert main([*args, "--output", str(tmp_path / "r.md"), "--row-cap", "4999"]) == 2
     err = capsys.readouterr().err
-    assert "decisions adjusted for age_years" in err and "not pulled from" in err
+    assert err.count("\n") == 1 and "exceed the row cap of 4,999" in err
     assert not (tmp_path / "r.md").exists()
+    want, got = tmp_path / "file.md", tmp_path / "duck.md"
+    assert main(["report", str(path), "--data", str(COHORT), "--output", str(want)]) == 0
+    assert main([*args, "--output", str(got)]) == 0
+    assert report_lines(got) == report_lines(want)
+    text = got.read_text()
+    assert "adjusted for" in text and "age_years" in text
+    assert "| source | duckdb cohort.duckdb table cohort |" in text
+    assert "| same data as the log's training data | no |" in text
 
 
 def test_review_opens_on_the_database_and_equals_the_file(database, tmp_path):

@@ -6,14 +6,17 @@ import argparse
 from pathlib import Path
 
 from tui import recodings
-from tui.cli.source_options import add_source_options, reduced
-from tui.intake.dataset import open_dataset
+from tui.cli.source_options import add_source_options, opened_source, reduced
+from tui.engine.reduced_data import record_of
+from tui.intake.dataset import Dataset, open_dataset
 from tui.intake.sources import local_path
+from tui.intake.sources.fetched import fetched_dataset, needed_columns
 from tui.intake.weights import FREQUENCY, WEIGHT_KINDS
 from tui.paths import check_output, write_output
 from tui.problems import InputProblem
 from tui.report import build_report, render_html, render_markdown
 from tui.report.cells import DEFAULT_MIN_CELL
+from tui.report.source_data import FetchedFrom, rows_needed
 
 RENDERERS = {".md": render_markdown, ".html": render_html}
 
@@ -68,11 +71,31 @@ def run(args: argparse.Namespace) -> int:
         target, [("recoding log", args.log), ("data file", local_path(args.data))], args.force
     )
     log = recodings.load(args.log)
-    data = reduced(args, log.outcome_column, event_option(log.event))
+    event = event_option(log.event)
+    got = _fetched(args, log, event) if rows_needed(log, args.weight) else None
+    data, origin = got if got is not None else (reduced(args, log.outcome_column, event), None)
     if data is None:
-        data = open_dataset(args.data, log.outcome_column, event_option(log.event))
+        data = open_dataset(args.data, log.outcome_column, event)
     report = build_report(
-        log, data, min_cell=args.min_cell, weight=args.weight, weight_kind=args.weight_kind
-    )
+        log, data, min_cell=args.min_cell, weight=args.weight, weight_kind=args.weight_kind,
+        origin=origin,
+    )  # fmt: skip
     write_output(target, render(report))
     return 0
+
+
+def _fetched(
+    args: argparse.Namespace, log: recodings.RecodingLog, event: str | None
+) -> tuple[Dataset, FetchedFrom] | None:
+    """Weights and covariates need rows: from a source, its numeric columns are fetched
+    under --row-cap (refused above it); None when DATA is a file."""
+    source = opened_source(args)
+    if source is None:
+        return None
+    try:
+        outcome = log.outcome_column
+        names = needed_columns(source, outcome, (), rows_needed(log, args.weight))
+        data = fetched_dataset(source, outcome, event, names, args.row_cap)
+        return data, FetchedFrom(source.label, record_of(source, outcome, event))
+    finally:
+        source.close()

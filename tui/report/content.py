@@ -31,7 +31,13 @@ from tui.recodings.evidence import Evidence
 from tui.recodings.model import Decision, RecodingLog
 from tui.report.cells import cell, group_is_safe
 from tui.report.missing_part import MissingPart, missing_part
-from tui.report.source_data import data_name, plain_counts, refuse_rows, source_lines
+from tui.report.source_data import (
+    FetchedFrom,
+    data_name,
+    plain_counts,
+    refuse_rows,
+    source_lines,
+)
 from tui.report.words import params_in_words
 
 DERIVED_FROM_VALUES = (
@@ -271,8 +277,10 @@ def build_report(
     now: datetime | None = None,
     weight: str | None = None,
     weight_kind: str = FREQUENCY,
+    origin: FetchedFrom | None = None,
 ) -> ReportContent:
-    """Recompute the evidence for every decision in ``log`` from ``data``.
+    """Recompute the evidence for every decision in ``log`` from ``data`` (rows fetched
+    from a source when ``origin`` names it).
 
     A decision judged with covariates (its evidence's ``adjusted_for``) is recomputed with the same
     covariates, each in its accepted form when the log holds one; ``weight`` weights every fit.
@@ -283,11 +291,13 @@ def build_report(
     missing = [c for c in needed if c not in data.column_names]
     if missing:
         raise InputProblem(
-            f"{data_name(data)} lacks column(s) the log recodes: {', '.join(missing)}"
+            f"{data_name(data, origin)} lacks column(s) the log recodes: {', '.join(missing)}"
         )
     not_numeric = [c for c in needed if c not in data.columns]
     if not_numeric:
-        raise InputProblem(f"column(s) not numeric in {data_name(data)}: {', '.join(not_numeric)}")
+        raise InputProblem(
+            f"column(s) not numeric in {data_name(data, origin)}: {', '.join(not_numeric)}"
+        )
 
     forms = {d.column: d.recoding for d in log.decisions}
     if isinstance(data, ReducedData):
@@ -308,12 +318,15 @@ def build_report(
 
     counts = decided_counts(log)
     flagged = sum(1 for s in scans if s.q_value is not None and s.q_value < Q_LINEAR)
-    sha = data.fingerprint if isinstance(data, ReducedData) else file_sha256(data.path)
+    if origin is not None:
+        sha = origin.record.fingerprint
+    else:
+        sha = data.fingerprint if isinstance(data, ReducedData) else file_sha256(data.path)
     adjust = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
     judged = {w for d in log.decisions if (w := d.evidence.weights.column)}
     weights = sorted(judged | ({f"{weight} ({weight_kind}), used here"} if weight else set()))
     y = data.outcome
-    named, hashed = source_lines(data, log, sha)
+    named, hashed = source_lines(data, log, sha, origin)
     fingerprint = {
         **named,
         "rows with an outcome": str(data.rows),
@@ -340,7 +353,8 @@ def build_report(
     if weight and weight_kind == SURVEY:  # the design-based score (Binder 1983)
         ranked_by = "robust (sandwich) Wald test of the non-linear terms"
     intro = (
-        f"Each numeric candidate predictor of '{log.outcome_column}' in {data_name(data)} was "
+        f"Each numeric candidate predictor of '{log.outcome_column}' in "
+        f"{data_name(data, origin)} was "
         "checked for linearity on the log-odds scale: columns were ranked by the "
         f"{ranked_by} of a restricted cubic spline against a linear term, with "
         "Benjamini-Hochberg q-values across columns, and an analyst reviewed the grouped "

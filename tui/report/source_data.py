@@ -3,8 +3,10 @@ column's counts come from the engine, the data are named by their label and fing
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 from tui.engine.counts import ReducedCounts, reduce_column
-from tui.engine.reduced_data import ReducedData
+from tui.engine.reduced_data import ReducedData, SourceRecord
 from tui.intake.dataset import ColumnarDataset, Dataset
 from tui.problems import InputProblem
 from tui.recodings.model import RecodingLog
@@ -12,8 +14,21 @@ from tui.recodings.model import RecodingLog
 Data = Dataset | ColumnarDataset | ReducedData
 
 
-def data_name(data: Data) -> str:
+@dataclass(frozen=True)
+class FetchedFrom:
+    """Rows fetched from a source (for weights and covariates, under the row cap): the
+    report names the source and its fingerprint, not a file."""
+
+    label: str
+    """The source's label (no secret in it)."""
+    record: SourceRecord
+    """What the log records of the source (its fingerprint among it)."""
+
+
+def data_name(data: Data, origin: FetchedFrom | None = None) -> str:
     """The file's name, or the source's label (no secret in it)."""
+    if origin is not None:
+        return origin.label
     return data.label if isinstance(data, ReducedData) else data.path.name
 
 
@@ -30,15 +45,23 @@ def refuse_rows(data: ReducedData, log: RecodingLog, weight: str | None) -> None
     if weight or adjusted:
         what = f"--weight {weight}" if weight else "decisions adjusted for " + ", ".join(adjusted)
         raise InputProblem(
-            f"{what}: a report recomputes these from rows, which are not pulled from "
-            f"{data.label}; report on a file holding the columns they need"
+            f"{what}: a report recomputes these from rows, which counts from "
+            f"{data.label} do not hold; fetch the rows (under --row-cap) instead"
         )
 
 
-def source_lines(data: Data, log: RecodingLog, sha: str) -> tuple[dict, dict]:
+def rows_needed(log: RecodingLog, weight: str | None) -> list[str]:
+    """The covariates and weight a report recomputes from rows (empty: counts will do)."""
+    adjusted = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
+    return [*adjusted, *([weight] if weight else [])]
+
+
+def source_lines(
+    data: Data, log: RecodingLog, sha: str, origin: FetchedFrom | None = None
+) -> tuple[dict, dict]:
     """The fingerprint's lines naming the data (before the row counts) and hashing them
     (after): a file by name and SHA-256 of its bytes, a source by label and fingerprint."""
-    if not isinstance(data, ReducedData):
+    if not isinstance(data, ReducedData) and origin is None:
         same = "yes" if sha == log.source.sha256 else "no"
         return {"file": data.path.name}, {
             "sha256": sha,
@@ -46,7 +69,7 @@ def source_lines(data: Data, log: RecodingLog, sha: str) -> tuple[dict, dict]:
         }
     trained = log.source.engine
     same = "yes" if trained is not None and trained.fingerprint == sha else "no"
-    return {"source": data.label}, {
+    return {"source": data_name(data, origin)}, {
         "fingerprint": sha,
         "same data as the log's training data": same,
     }

@@ -135,10 +135,18 @@ def test_binned_counts_equal_the_row_order_reference(rng, share, kind):
     assert (got.low, got.high) == (finite.min(), finite.max())
 
 
-def test_exact_below_the_row_threshold_on_every_path(rng):
+@pytest.mark.parametrize("share", [0.05, 0.35, 0.8])
+def test_exact_below_the_row_threshold_on_every_path(rng, share):
     n = EXACT_BELOW_ROWS - 1
     for x in (rng.normal(size=n), rng.integers(0, 5000, n) * 1.0, np.round(rng.normal(size=n), 1)):
-        _assert_reference(_spoiled(rng, x), _outcome(rng, n, 0.35))
+        _assert_reference(_spoiled(rng, x), _outcome(rng, n, share))
+
+
+@pytest.mark.parametrize("share", SHARES)
+def test_few_values_that_are_not_whole_numbers(rng, share):
+    x = _spoiled(rng, rng.choice([-1.5, 0.0, 0.25, 2.75, 1e9 + 0.5], 60_000))
+    got = _assert_reference(x, _outcome(rng, x.size, share))
+    assert got.exact and got.distinct == 5
 
 
 def test_weights_of_one_give_the_unweighted_counts(rng):

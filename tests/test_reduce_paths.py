@@ -53,6 +53,15 @@ def _spoiled(rng, x):
 
 SHARES = [0.0, 0.01, 0.3, 0.5, 0.8, 1.0]
 
+COLUMNS = {
+    "continuous": lambda rng, n: rng.normal(size=n),
+    "signed-ties": lambda rng, n: np.round(rng.lognormal(0.0, 1.0, n), 2) * rng.choice([-1, 1], n),
+    "few": lambda rng, n: rng.choice([-0.0, 0.0, 0.25, 7.5], n),
+    "skewed-ties": lambda rng, n: np.round(rng.lognormal(0.0, 1.2, n), 3),
+    # Not whole numbers, so the sorted path, with long runs of ties.
+    "halves": lambda rng, n: rng.integers(0, 4000, n) / 2.0 + 0.25,
+}
+
 
 @pytest.mark.parametrize("share", SHARES)
 @pytest.mark.parametrize("n", [3, 500, 40_000])
@@ -98,15 +107,10 @@ def test_many_whole_numbers_are_binned_like_any_column(rng):
 
 
 @pytest.mark.parametrize("share", SHARES)
-@pytest.mark.parametrize("kind", ["continuous", "ties", "few"])
+@pytest.mark.parametrize("kind", ["continuous", "signed-ties", "few"])
 def test_sorted_by_class_is_one_sort_of_every_row(rng, share, kind):
     n = 20_000
-    if kind == "continuous":
-        x = rng.normal(size=n)
-    elif kind == "ties":
-        x = np.round(rng.lognormal(0.0, 1.0, n), 2) * rng.choice([-1.0, 1.0], n)
-    else:
-        x = rng.choice([-0.0, 0.0, 0.25, 7.5], n)
+    x = COLUMNS[kind](rng, n)
     event = rng.random(n) < share
     xs, xm, minority_events = C._sorted_by_class(x, event)
     np.testing.assert_array_equal(xs, np.sort(x))
@@ -119,12 +123,7 @@ def test_sorted_by_class_is_one_sort_of_every_row(rng, share, kind):
 @pytest.mark.parametrize("kind", ["continuous", "skewed-ties", "halves"])
 def test_binned_counts_equal_the_row_order_reference(rng, share, kind):
     n = 30_000
-    if kind == "continuous":
-        x = rng.normal(size=n)
-    elif kind == "skewed-ties":
-        x = np.round(rng.lognormal(0.0, 1.2, n), 3)
-    else:  # not whole numbers, so the sorted path, with long runs of ties
-        x = rng.integers(0, 4000, n) / 2.0 + 0.25
+    x = COLUMNS[kind](rng, n)
     x = _spoiled(rng, x)
     y = _outcome(rng, n, share)
     got = _assert_reference(x, y)

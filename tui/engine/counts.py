@@ -8,9 +8,12 @@ a close approximation (benchmarks/results/scan_speed.md). Half the bin edges are
 counts), half equal steps across the range (so that the tails of a skewed column are not
 lumped into a few wide bins). Knots and cut points still come from quantiles of every row.
 
-The reduction sorts the values once (numpy's vectorised sort, several times faster than an
-argsort) and the values of the event rows once; rows and events per value or per bin are
-then positions in those two sorted arrays, so no row-level index is ever built.
+Whole numbers over a short range (counts, scores, ages) are counted per value with one
+bincount, no sort at all. Other columns sort the rows of the smaller outcome class and,
+when that class is not small, the rows of the larger one, then merge the two sorted runs
+(a merge of two runs costs a tenth of a sort): one sort's work in all, not a sort of every
+row plus a sort of the event rows. Rows and events per value or per bin are then positions
+in sorted arrays, so no row-level index is ever built.
 """
 
 from __future__ import annotations
@@ -296,28 +299,30 @@ def _zero_one(y: np.ndarray) -> bool:
 def _reduce_binary(
     x: np.ndarray, event: np.ndarray, max_levels: int, exact_below: int
 ) -> ReducedCounts:
-    """Unweighted rows with a 0/1 outcome: counts from two sorts, no row index."""
+    """Unweighted rows with a 0/1 outcome: counts per whole number, or from sorted runs."""
     if x.size == 0:
         empty = np.zeros(0)
         return ReducedCounts(empty, empty, empty, True)
     n = x.size
-    xs = np.sort(x)
-    xe = np.sort(x[event])
+    counted = _whole_number_counts(x, event, max_levels, exact_below)
+    if counted is not None:
+        return counted
+    xs, xm, minority_events = _sorted_by_class(x, event)
     changes = xs[1:] != xs[:-1]
     distinct = int(np.count_nonzero(changes)) + 1
     if distinct <= max_levels or n < exact_below:
         starts = np.flatnonzero(np.r_[True, changes])
         values = xs[starts]
         trials = np.diff(np.r_[starts, n]).astype(float)
-        events = (
-            np.searchsorted(xe, values, side="right") - np.searchsorted(xe, values, side="left")
-        ).astype(float)
-        return ReducedCounts(values, trials, events, True)
+        inside = np.searchsorted(xm, values, side="right") - np.searchsorted(xm, values, "left")
+        events = inside if minority_events else trials - inside
+        return ReducedCounts(values, trials, events.astype(float), True)
 
     bounds = _bin_bounds(xs, max_levels)
     trials = np.diff(np.r_[bounds, n]).astype(float)
     # Bins never split ties, so bin i holds exactly the values in [xs[b_i], xs[b_i+1]).
-    events = np.diff(np.r_[np.searchsorted(xe, xs[bounds], side="left"), xe.size]).astype(float)
+    inside = np.diff(np.r_[np.searchsorted(xm, xs[bounds], side="left"), xm.size])
+    events = (inside if minority_events else trials - inside).astype(float)
     means = np.add.reduceat(xs, bounds) / trials
     grid = sorted_quantile(xs, np.linspace(0.0, 1.0, _QUANTILE_GRID))
     return ReducedCounts(
@@ -331,6 +336,54 @@ def _reduce_binary(
         float(xs[-1]),
         gap=smallest_gap(xs),
     )
+
+
+LATTICE_SPAN = 1 << 16
+"""Whole-number columns whose largest value exceeds the smallest by at most this are
+counted per value with a bincount (as many slots as the span; no sort)."""
+MERGE_SHARE = 0.125
+"""Above this share of rows in the smaller outcome class, sorting each class and merging
+the two runs beats sorting every row and then the smaller class again (benchmarked:
+a merge of two sorted runs of a million values costs about 8 ms, a sort about 90 ms)."""
+
+
+def _whole_number_counts(
+    x: np.ndarray, event: np.ndarray, max_levels: int, exact_below: int
+) -> ReducedCounts | None:
+    """Exact counts per value of finite whole numbers over a short range, from one
+    bincount of rows and one of events; None when the column is not such, or when it has
+    so many values that it is binned (the sorted path bins it)."""
+    if not np.array_equal(np.floor(x[:64]), x[:64]):  # most columns fail here, at once
+        return None
+    low, high = float(x.min()), float(x.max())
+    # Below 2**52 whole numbers and their differences are exact in a double.
+    if high - low > LATTICE_SPAN or max(abs(low), abs(high)) >= 2.0**52:
+        return None
+    if not np.array_equal(np.floor(x), x):
+        return None
+    slot = (x - low).astype(np.intp)
+    size = int(high - low) + 1
+    trials = np.bincount(slot, minlength=size)
+    present = np.flatnonzero(trials)
+    if present.size > max_levels and x.size >= exact_below:
+        return None
+    events = np.bincount(slot[event], minlength=size)[present]
+    values = low + present.astype(float)
+    return ReducedCounts(values, trials[present].astype(float), events.astype(float), True)
+
+
+def _sorted_by_class(x: np.ndarray, event: np.ndarray) -> tuple[np.ndarray, np.ndarray, bool]:
+    """Every value sorted, the values of the smaller outcome class sorted, and whether that
+    class is the events. The values are the same numbers ``np.sort(x)`` gives."""
+    events = int(np.count_nonzero(event))
+    minority_events = events <= x.size - events
+    minority = event if minority_events else ~event
+    xm = np.sort(x[minority])
+    if xm.size <= MERGE_SHARE * x.size:
+        return np.sort(x), xm, minority_events
+    # numpy's stable sort finds the two ascending runs and merges them in one pass.
+    merged = np.sort(np.concatenate([xm, np.sort(x[~minority])]), kind="stable")
+    return merged, xm, minority_events
 
 
 def _reduce_general(

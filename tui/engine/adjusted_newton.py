@@ -29,8 +29,11 @@ _RANK_DOUBT = 1e-6
 of ``fit_logistic`` (its own threshold is 1e-9 on the same scale)."""
 _SEPARATION_ETA = 30.0
 _CHORD_STEPS = 12
-_CHORD_DONE = 1e-6
-"""A chord step this small leaves an error of about the rate times the step: settled."""
+_GAIN_DONE = 1e-9
+"""Settled when the next chord step would raise the log-likelihood by less than this. The
+figure returned is the likelihood where that step starts plus the step's predicted gain,
+so no further pass over the rows is needed; with steps shrinking by at least half each
+time, what is still missing is below the gain itself."""
 _CHORD_RATE = 0.5
 """Steps that shrink by less than this per step hand over to full Newton steps."""
 _WILD_STEP = 50.0
@@ -80,6 +83,14 @@ class CovariateBlock:
     """Covariates-only fit on the standardised scale."""
     unit: bool
     """Every row counts once (no weights)."""
+    base_mean: np.ndarray
+    """Fitted probabilities of the covariates-only fit, per usable row."""
+    base_root: np.ndarray
+    """Square roots of that fit's Newton weights, per usable row."""
+    weighted: np.ndarray
+    """``standard`` times ``base_root`` (covariate rows of every Hessian at that fit)."""
+    cross: np.ndarray
+    """``weighted @ weighted.T``: the covariate block of that Hessian on every usable row."""
 
     @property
     def width(self) -> int:
@@ -109,7 +120,13 @@ def covariate_block(
         found = newton(standard, events, None if unit else trials, beta)
         if found is not None:
             beta = found[0]
-    return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit)
+    # Every column without missing values shares these; one with some removes its rows.
+    base_mean = fitted_mean(beta @ standard)
+    root = np.sqrt(trials * base_mean * (1.0 - base_mean))
+    weighted = standard * root
+    cross = weighted @ weighted.T
+    return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit,
+                          base_mean, root, weighted, cross)  # fmt: skip
 
 
 def newton(
@@ -182,21 +199,33 @@ def chord(
     eta = beta[:c] @ top + beta[c:] @ low
     previous = np.inf
     for _ in range(_CHORD_STEPS):
-        mu = fitted_mean(eta)
+        with np.errstate(over="ignore"):
+            down = np.exp(-eta)
+        mu = 1.0 / (1.0 + down)
         resid = events - (mu if trials is None else trials * mu)
         grad = np.concatenate([top @ resid, low @ resid])
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
         if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
             return beta, None
-        beta = beta + step
-        eta = beta[:c] @ top + beta[c:] @ low
-        if moved < _CHORD_DONE:
+        gain = 0.5 * float(grad @ step)
+        if gain < _GAIN_DONE:
             if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
                 return beta, None
-            return beta, loglik(eta, events, trials)
+            return beta + step, _loglik_down(eta, down, events, trials) + gain
+        beta = beta + step
+        eta = beta[:c] @ top + beta[c:] @ low
         previous = moved
     return beta, None
+
+
+def _loglik_down(
+    eta: np.ndarray, down: np.ndarray, events: np.ndarray, trials: np.ndarray | None
+) -> float:
+    """``loglik`` from exp(-eta) already at hand (|eta| at most 30, so it is finite):
+    log(1 + exp(eta)) = eta + log1p(exp(-eta)), accurate to a few units of eta's last digit."""
+    soft = eta + np.log1p(down)
+    return float(events @ eta - (soft.sum() if trials is None else trials @ soft))
 
 
 @dataclass(frozen=True, eq=False)
@@ -231,18 +260,24 @@ class ColumnRows:
         """Rows of ``x_all`` (every data row) that a fit of this column uses."""
         x = np.asarray(x_all, dtype=float)[block.usable]
         finite = np.isfinite(x)
-        keep = None if finite.all() else finite
-        standard, events, trials = block.standard, block.events, block.trials
-        if keep is not None:
-            x, standard = x[keep], np.ascontiguousarray(standard[:, keep])
-            events, trials = events[keep], trials[keep]
-        base_mean = fitted_mean(block.beta @ standard)
-        root = np.sqrt(trials * base_mean * (1.0 - base_mean))
-        weighted = standard * root
-        cross = weighted @ weighted.T
-        means = block.centre
-        if keep is not None:
-            means = (block.design[keep].T @ trials) / float(trials.sum())
+        if finite.all():
+            return ColumnRows(block, None, x, block.standard, block.events, block.trials,
+                              block.base_mean, block.base_root, block.cross, block.weighted,
+                              block.centre)  # fmt: skip
+        keep = finite
+        x = x[keep]
+        standard = np.ascontiguousarray(block.standard[:, keep])
+        events, trials = block.events[keep], block.trials[keep]
+        base_mean, root = block.base_mean[keep], block.base_root[keep]
+        weighted = np.ascontiguousarray(block.weighted[:, keep])
+        if 4 * x.size > 3 * keep.size:
+            # A few rows left out: take their share off the whole block's cross product
+            # (a quarter of the rows at most, so nothing near cancels).
+            gone = block.weighted[:, ~keep]
+            cross = block.cross - gone @ gone.T
+        else:
+            cross = weighted @ weighted.T
+        means = (block.design[keep].T @ trials) / float(trials.sum())
         return ColumnRows(
             block, keep, x, standard, events, trials, base_mean, root, cross, weighted, means
         )

@@ -238,7 +238,7 @@ class _Column:
         )
 
     def _fit(self, kind: str, recoding: Recoding) -> LogisticFit:
-        basis = recoding.apply(self.rows.x)
+        basis = _basis(recoding, self.rows.x)
         if not np.all(np.isfinite(basis)):
             raise RecodingError("the form gives non-finite values on the training data")
         start = None
@@ -345,6 +345,15 @@ class _Column:
             statistic=LR,  # survey weights never take this path (``handles``)
             shape=curve_shape(grid, spline.log_odds(grid)),
         )
+
+
+def _basis(recoding: Recoding, x: np.ndarray) -> np.ndarray:
+    """``recoding.apply`` on x that is finite on every row: a triage candidate has no clip
+    and no fill, so the form's own columns serve, without the copy into a NaN frame."""
+    if recoding.clip is not None or recoding.missing is not None:
+        return recoding.apply(x)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        return np.asarray(recoding.form.apply(recoding.params, x), dtype=float).reshape(x.size, -1)
 
 
 def _failed(candidate: Candidate, problem: str) -> FormFit:

@@ -9,9 +9,6 @@ from __future__ import annotations
 import io
 import re
 
-import matplotlib
-from matplotlib.figure import Figure
-
 from tui.report.content import DecisionSection
 
 WIDTH_IN, HEIGHT_IN = 7.0, 4.2
@@ -32,6 +29,11 @@ def svg_plot(d: DecisionSection, outcome: str) -> str:
     window = d.window
     if window is None or len(points) < 2:
         return "<p>(too few groups to draw)</p>"
+    # matplotlib takes about a second to import: loaded here, only when a report draws,
+    # so that every other command (scan, replay, ...) starts without it.
+    import matplotlib
+    from matplotlib.figure import Figure
+
     style = {"svg.hashsalt": f"bendwise-{d.column}", "svg.fonttype": "none", "font.size": 9}
     with matplotlib.rc_context(style):
         fig = Figure(figsize=(WIDTH_IN, HEIGHT_IN))

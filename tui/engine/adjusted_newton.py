@@ -20,23 +20,23 @@ from scipy.linalg import lapack
 
 from tui.engine.fitting import LogisticFit, fit_logistic
 
-_MAX_ITER = 30
-_STEP_DONE = 1e-5
+MAX_ITER = 30
+STEP_DONE = 1e-5
 """A full Newton step smaller than this (standardised scale) leaves an error of its
 square: the fit is converged far beyond what the likelihood-ratio statistic needs."""
-_RANK_DOUBT = 1e-6
+RANK_DOUBT = 1e-6
 """Cholesky pivots this small relative to the largest hand the rank question to the QR
 of ``fit_logistic`` (its own threshold is 1e-9 on the same scale)."""
-_SEPARATION_ETA = 30.0
-_CHORD_STEPS = 12
-_GAIN_DONE = 1e-9
+SEPARATION_ETA = 30.0
+CHORD_STEPS = 12
+GAIN_DONE = 1e-9
 """Settled when the next chord step would raise the log-likelihood by less than this. The
 figure returned is the likelihood where that step starts plus the step's predicted gain,
 so no further pass over the rows is needed; with steps shrinking by at least half each
 time, what is still missing is below the gain itself."""
-_CHORD_RATE = 0.5
+CHORD_RATE = 0.5
 """Steps that shrink by less than this per step hand over to full Newton steps."""
-_WILD_STEP = 50.0
+WILD_STEP = 50.0
 """A step this long on standardised columns is no refinement of a warm start."""
 
 
@@ -141,7 +141,7 @@ def newton(
     """
     beta = np.array(start, dtype=float)
     eta = beta @ xt
-    for iteration in range(_MAX_ITER):
+    for iteration in range(MAX_ITER):
         mu = fitted_mean(eta)
         if trials is None:
             resid, weight = events - mu, mu * (1.0 - mu)
@@ -155,16 +155,16 @@ def newton(
             return None
         if iteration == 0:
             pivots = np.abs(np.diagonal(chol))
-            if pivots.min() < _RANK_DOUBT * pivots.max():
+            if pivots.min() < RANK_DOUBT * pivots.max():
                 return None
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < _WILD_STEP:
+        if info != 0 or not moved < WILD_STEP:
             return None
         beta = beta + step
         eta = beta @ xt
-        if moved < _STEP_DONE:
-            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
+        if moved < STEP_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > SEPARATION_ETA:
                 return None  # fitted probabilities at 0 or 1: let fit_logistic judge
             return beta, loglik(eta, events, trials)
     return None
@@ -194,11 +194,11 @@ def chord(
     if info != 0:
         return beta, None
     pivots = np.abs(np.diagonal(chol))
-    if pivots.min() < _RANK_DOUBT * pivots.max():
+    if pivots.min() < RANK_DOUBT * pivots.max():
         return beta, None
     eta = beta[:c] @ top + beta[c:] @ low
     previous = np.inf
-    for _ in range(_CHORD_STEPS):
+    for _ in range(CHORD_STEPS):
         with np.errstate(over="ignore"):
             down = np.exp(-eta)
         mu = 1.0 / (1.0 + down)
@@ -206,20 +206,20 @@ def chord(
         grad = np.concatenate([top @ resid, low @ resid])
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
+        if info != 0 or not moved < WILD_STEP or moved > CHORD_RATE * previous:
             return beta, None
         gain = 0.5 * float(grad @ step)
-        if gain < _GAIN_DONE:
-            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
+        if gain < GAIN_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > SEPARATION_ETA:
                 return beta, None
-            return beta + step, _loglik_down(eta, down, events, trials) + gain
+            return beta + step, loglik_down(eta, down, events, trials) + gain
         beta = beta + step
         eta = beta[:c] @ top + beta[c:] @ low
         previous = moved
     return beta, None
 
 
-def _loglik_down(
+def loglik_down(
     eta: np.ndarray, down: np.ndarray, events: np.ndarray, trials: np.ndarray | None
 ) -> float:
     """``loglik`` from exp(-eta) already at hand (|eta| at most 30, so it is finite):
@@ -326,28 +326,34 @@ class ColumnRows:
         if found is None:
             xt = np.vstack([self.standard, basis_t])
             found = newton(xt, self.events, trials, beta)
-        scale_all = np.concatenate(([1.0], self.block.scale, scale))
-        centre_all = np.concatenate(([0.0], self.block.centre, centre))
         if found is None:
             # fit_logistic judges this design (step halving, separation), starting from
             # where the fast steps stopped when they stayed finite.
+            scale_all = np.concatenate(([1.0], self.block.scale, scale))
+            centre_all = np.concatenate(([0.0], self.block.centre, centre))
             design = np.column_stack([np.ones(self.x.size), self.covariates, cols.T])
             coef = _original_scale(beta, centre_all, scale_all)
             start = coef if np.all(np.isfinite(coef)) else None
             return fit_logistic(design, self.events, self.trials, start=start), None
         beta, ll = found
-        c = self.block.width
-        coef = _original_scale(beta, centre_all, scale_all)
-        fit = LogisticFit(
-            coef=coef,
+        return self.settled(beta, ll, centre, scale), beta
+
+    def settled(
+        self, beta: np.ndarray, ll: float, centre: np.ndarray, scale: np.ndarray
+    ) -> LogisticFit:
+        """The fit that fast steps settled: ``beta`` on the standardised scale, the form's
+        columns centred at ``centre`` and scaled by ``scale``."""
+        scale_all = np.concatenate(([1.0], self.block.scale, scale))
+        centre_all = np.concatenate(([0.0], self.block.centre, centre))
+        return LogisticFit(
+            coef=_original_scale(beta, centre_all, scale_all),
             llf=ll,
             nobs=float(self.trials.sum()),
-            n_params=c + cols.shape[0],
+            n_params=self.block.width + int(scale.size),
             converged=True,
             separated=False,
             rank_deficient=False,
         )
-        return fit, beta
 
 
 def _original_scale(beta: np.ndarray, centre: np.ndarray, scale: np.ndarray) -> np.ndarray:

@@ -64,3 +64,15 @@ def test_scan_command_starts_without_the_plotting_library():
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert done.returncode == 0, done.stderr
     assert done.stdout.strip() == "False"
+
+
+def test_freed_memory_is_kept_for_reuse_on_glibc():
+    # The setting is process-wide and asked for once; a fresh interpreter checks it took.
+    import platform
+
+    if platform.libc_ver()[0] != "glibc":
+        pytest.skip("mallopt is glibc's")
+    code = "from tui.engine.heap import reuse_freed_memory as r; print(r(), r())"
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == ["True", "True"]

@@ -91,6 +91,10 @@ class CovariateBlock:
     """``standard`` times ``base_root`` (covariate rows of every Hessian at that fit)."""
     cross: np.ndarray
     """``weighted @ weighted.T``: the covariate block of that Hessian on every usable row."""
+    base_eta: np.ndarray
+    """Log-odds of that fit, per usable row."""
+    base_resid: np.ndarray
+    """Events minus that fit's expected events, per usable row."""
 
     @property
     def width(self) -> int:
@@ -121,12 +125,14 @@ def covariate_block(
         if found is not None:
             beta = found[0]
     # Every column without missing values shares these; one with some removes its rows.
-    base_mean = fitted_mean(beta @ standard)
+    base_eta = beta @ standard
+    base_mean = fitted_mean(base_eta)
     root = np.sqrt(trials * base_mean * (1.0 - base_mean))
     weighted = standard * root
     cross = weighted @ weighted.T
+    resid = events - trials * base_mean
     return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit,
-                          base_mean, root, weighted, cross)  # fmt: skip
+                          base_mean, root, weighted, cross, base_eta, resid)  # fmt: skip
 
 
 def newton(
@@ -176,6 +182,7 @@ def chord(
     events: np.ndarray,
     trials: np.ndarray | None,
     start: np.ndarray,
+    eta: np.ndarray | None = None,
 ) -> tuple[np.ndarray, float | None]:
     """Newton steps that keep one Hessian (the chord method), on ``parts`` = covariate
     rows and form rows of the standardised design.
@@ -185,7 +192,8 @@ def chord(
     the rows instead of a cross product. Converges linearly, at a rate set by how far the
     form moves the fitted probabilities. Returns (coefficients, log-likelihood) when
     settled, or (coefficients so far, None) when the steps do not shrink fast enough (the
-    caller goes on with full Newton steps from there).
+    caller goes on with full Newton steps from there). ``eta``: the start's log-odds, when
+    the caller has them without a pass over the design.
     """
     top, low = parts
     c = top.shape[0]
@@ -196,13 +204,18 @@ def chord(
     pivots = np.abs(np.diagonal(chol))
     if pivots.min() < RANK_DOUBT * pivots.max():
         return beta, None
-    eta = beta[:c] @ top + beta[c:] @ low
+    eta = np.array(beta[:c] @ top + beta[c:] @ low if eta is None else eta, dtype=float)
+    # Buffers reused by every step: no temporary the size of the rows is made per step.
+    down, resid = np.empty_like(eta), np.empty_like(eta)
+    expected = 1.0 if trials is None else trials
     previous = np.inf
     for _ in range(CHORD_STEPS):
+        np.negative(eta, out=down)
         with np.errstate(over="ignore"):
-            down = np.exp(-eta)
-        mu = 1.0 / (1.0 + down)
-        resid = events - (mu if trials is None else trials * mu)
+            np.exp(down, out=down)
+        np.add(down, 1.0, out=resid)
+        np.divide(expected, resid, out=resid)  # expected events
+        np.subtract(events, resid, out=resid)
         grad = np.concatenate([top @ resid, low @ resid])
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
@@ -214,7 +227,8 @@ def chord(
                 return beta, None
             return beta + step, loglik_down(eta, down, events, trials) + gain
         beta = beta + step
-        eta = beta[:c] @ top + beta[c:] @ low
+        np.dot(beta[:c], top, out=eta)
+        eta += beta[c:] @ low
         previous = moved
     return beta, None
 
@@ -254,6 +268,10 @@ class ColumnRows:
     """``standard`` times ``base_root``: the covariate rows of every Hessian at that fit."""
     covariate_means: np.ndarray
     """Weighted means of the covariates on these rows (where curves are drawn)."""
+    base_eta: np.ndarray
+    """Log-odds of the covariates-only fit on those rows."""
+    base_resid: np.ndarray
+    """Events minus that fit's expected events on those rows."""
 
     @staticmethod
     def of(block: CovariateBlock, x_all: np.ndarray) -> ColumnRows:
@@ -263,7 +281,7 @@ class ColumnRows:
         if finite.all():
             return ColumnRows(block, None, x, block.standard, block.events, block.trials,
                               block.base_mean, block.base_root, block.cross, block.weighted,
-                              block.centre)  # fmt: skip
+                              block.centre, block.base_eta, block.base_resid)  # fmt: skip
         keep = finite
         x = x[keep]
         standard = np.ascontiguousarray(block.standard[:, keep])
@@ -278,9 +296,9 @@ class ColumnRows:
         else:
             cross = weighted @ weighted.T
         means = (block.design[keep].T @ trials) / float(trials.sum())
-        return ColumnRows(
-            block, keep, x, standard, events, trials, base_mean, root, cross, weighted, means
-        )
+        eta, resid = block.base_eta[keep], block.base_resid[keep]
+        return ColumnRows(block, keep, x, standard, events, trials, base_mean, root, cross,
+                          weighted, means, eta, resid)  # fmt: skip
 
     @property
     def covariates(self) -> np.ndarray:
@@ -293,10 +311,9 @@ class ColumnRows:
         beta = np.zeros(self.standard.shape[0] + basis_t.shape[0])
         beta[: self.standard.shape[0]] = self.block.beta
         first = basis_t[0]
-        fitted = self.trials * self.base_mean
         info = float(np.square(first * self.base_root).sum())
         if info > 0:
-            beta[self.standard.shape[0]] = float(first @ (self.events - fitted)) / info
+            beta[self.standard.shape[0]] = float(first @ self.base_resid) / info
         return beta
 
     def base_hessian(self, basis_t: np.ndarray) -> np.ndarray:
@@ -317,11 +334,14 @@ class ColumnRows:
         cols = np.ascontiguousarray(np.asarray(basis, dtype=float).reshape(self.x.size, -1).T)
         centre, scale = scaling(cols, self.trials)
         basis_t = (cols - centre[:, None]) / scale[:, None]
+        eta = None
         if start is None or start.size != self.standard.shape[0] + basis_t.shape[0]:
             start = self.start(basis_t)
+            # Only the first form column moved from the covariates-only fit.
+            eta = self.base_eta + start[self.standard.shape[0]] * basis_t[0]
         trials = None if self.block.unit else self.trials
         hessian = self.base_hessian(basis_t)
-        beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start)
+        beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start, eta)
         found = None if ll is None else (beta, ll)
         if found is None:
             xt = np.vstack([self.standard, basis_t])

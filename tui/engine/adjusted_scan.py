@@ -41,6 +41,7 @@ from tui.engine.forms.fracpoly import POWERS, Fp1Candidate
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import SPLINE
+from tui.engine.heap import reuse_freed_memory
 from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint, scan_column
 from tui.engine.shape import curve_shape
@@ -83,6 +84,7 @@ class AdjustedScanner:
         self.settings = settings
         self.candidates = triage_candidates(settings.groups, settings.knots, False)
         self._blocks: dict[tuple[str, ...], CovariateBlock] = {}
+        reuse_freed_memory()  # row-sized temporaries in every step (engine.heap)
 
     def handles(self, column: str) -> bool:
         """The column has covariates to be adjusted for (else the counts path serves it).

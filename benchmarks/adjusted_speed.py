@@ -13,7 +13,8 @@ process, reading the file, both passes) against a hand loop that reads the file 
 the same two statsmodels fits per column (linear and 4-knot restricted cubic spline,
 covariates in both), timed one after the other in the same run, with the load average of
 the machine beside them; and the largest relative difference between the printed scores
-and the loop's likelihood-ratio statistics. Timing belongs here, never in the test suite.
+and the loop's likelihood-ratio statistics, and the peak resident memory of the
+scan's processes. Timing belongs here, never in the test suite.
 The printout is also written to benchmarks/results/adjusted_speed.md (``--results``
 elsewhere).
 """
@@ -23,6 +24,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import subprocess
 import sys
 import tempfile
@@ -95,6 +97,10 @@ def _end_to_end(frame, columns: list[str], covariates: list[str]) -> None:
                               env={**os.environ, "PYTHONPATH": str(REPO)})  # fmt: skip
         scan = time.perf_counter() - start
         print(f"bendwise scan --adjust, end to end:               {scan:7.2f} s; {_load()}")
+        # Largest resident set of any finished child so far: the scan's process or one of
+        # its workers (the hand loop ran in this process, so it is not counted).
+        peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+        print(f"peak resident memory of the scan's processes: {peak:.0f} MiB")
         print(f"ratio: {loop / scan:.1f}x faster than the hand loop")
         printed = {r["column"]: r["score"] for r in json.loads(done.stdout)}
         worst = max(abs(printed[c] - v) / max(abs(v), 1e-12) for c, v in expected.items())

@@ -20,23 +20,23 @@ from scipy.linalg import lapack
 
 from tui.engine.fitting import LogisticFit, fit_logistic
 
-MAX_ITER = 30
-STEP_DONE = 1e-5
+_MAX_ITER = 30
+_STEP_DONE = 1e-5
 """A full Newton step smaller than this (standardised scale) leaves an error of its
 square: the fit is converged far beyond what the likelihood-ratio statistic needs."""
-RANK_DOUBT = 1e-6
+_RANK_DOUBT = 1e-6
 """Cholesky pivots this small relative to the largest hand the rank question to the QR
 of ``fit_logistic`` (its own threshold is 1e-9 on the same scale)."""
-SEPARATION_ETA = 30.0
-CHORD_STEPS = 12
-GAIN_DONE = 1e-9
+_SEPARATION_ETA = 30.0
+_CHORD_STEPS = 12
+_GAIN_DONE = 1e-9
 """Settled when the next chord step would raise the log-likelihood by less than this. The
 figure returned is the likelihood where that step starts plus the step's predicted gain,
 so no further pass over the rows is needed; with steps shrinking by at least half each
 time, what is still missing is below the gain itself."""
-CHORD_RATE = 0.5
+_CHORD_RATE = 0.5
 """Steps that shrink by less than this per step hand over to full Newton steps."""
-WILD_STEP = 50.0
+_WILD_STEP = 50.0
 """A step this long on standardised columns is no refinement of a warm start."""
 
 
@@ -147,7 +147,7 @@ def newton(
     """
     beta = np.array(start, dtype=float)
     eta = beta @ xt
-    for iteration in range(MAX_ITER):
+    for iteration in range(_MAX_ITER):
         mu = fitted_mean(eta)
         if trials is None:
             resid, weight = events - mu, mu * (1.0 - mu)
@@ -161,16 +161,16 @@ def newton(
             return None
         if iteration == 0:
             pivots = np.abs(np.diagonal(chol))
-            if pivots.min() < RANK_DOUBT * pivots.max():
+            if pivots.min() < _RANK_DOUBT * pivots.max():
                 return None
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < WILD_STEP:
+        if info != 0 or not moved < _WILD_STEP:
             return None
         beta = beta + step
         eta = beta @ xt
-        if moved < STEP_DONE:
-            if float(np.abs(eta).max(initial=0.0)) > SEPARATION_ETA:
+        if moved < _STEP_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
                 return None  # fitted probabilities at 0 or 1: let fit_logistic judge
             return beta, loglik(eta, events, trials)
     return None
@@ -202,14 +202,14 @@ def chord(
     if info != 0:
         return beta, None
     pivots = np.abs(np.diagonal(chol))
-    if pivots.min() < RANK_DOUBT * pivots.max():
+    if pivots.min() < _RANK_DOUBT * pivots.max():
         return beta, None
     eta = np.array(beta[:c] @ top + beta[c:] @ low if eta is None else eta, dtype=float)
     # Buffers reused by every step: no temporary the size of the rows is made per step.
     down, resid = np.empty_like(eta), np.empty_like(eta)
     expected = 1.0 if trials is None else trials
     previous = np.inf
-    for _ in range(CHORD_STEPS):
+    for _ in range(_CHORD_STEPS):
         np.negative(eta, out=down)
         with np.errstate(over="ignore"):
             np.exp(down, out=down)
@@ -219,13 +219,13 @@ def chord(
         grad = np.concatenate([top @ resid, low @ resid])
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < WILD_STEP or moved > CHORD_RATE * previous:
+        if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
             return beta, None
         gain = 0.5 * float(grad @ step)
-        if gain < GAIN_DONE:
-            if float(np.abs(eta).max(initial=0.0)) > SEPARATION_ETA:
+        if gain < _GAIN_DONE:
+            if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
                 return beta, None
-            return beta + step, loglik_down(eta, down, events, trials) + gain
+            return beta + step, _loglik_down(eta, down, events, trials) + gain
         beta = beta + step
         np.dot(beta[:c], top, out=eta)
         eta += beta[c:] @ low
@@ -233,7 +233,7 @@ def chord(
     return beta, None
 
 
-def loglik_down(
+def _loglik_down(
     eta: np.ndarray, down: np.ndarray, events: np.ndarray, trials: np.ndarray | None
 ) -> float:
     """``loglik`` from exp(-eta) already at hand (|eta| at most 30, so it is finite):

@@ -3,11 +3,11 @@
 A row-level fit on 100,000 rows makes arrays of 800 kB several times per Newton step.
 glibc hands out every block above its mmap threshold (128 kB at first) as a fresh
 mapping: the kernel zeroes and maps its pages one fault at a time, and the block goes
-back to the kernel when freed. Measured on this project's benchmark machine, one chord
-step (log-odds, probabilities, residuals, gradient) took 2.9 ms of CPU that way and
-0.7 ms with the blocks kept on the heap. Raising the mmap threshold and the trim limit
-keeps such blocks on the heap for the next step. Only glibc has ``mallopt``; on other
-systems this does nothing.
+back to the kernel when freed (glibc raises the threshold by itself after a while, but
+trims the heap's top again). On the 2-core development machine an adjusted scan spent
+about a tenth of its CPU time in the kernel that way (benchmarks/results/adjusted_speed.md).
+Raising the mmap threshold and the trim limit keeps such blocks on the heap for the
+next step. Only glibc has ``mallopt``; on other systems this does nothing.
 """
 
 from __future__ import annotations

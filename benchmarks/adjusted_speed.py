@@ -80,21 +80,30 @@ def _load() -> str:
     return f"load average {one:.2f}, {five:.2f}, {fifteen:.2f}"
 
 
+_PEAK = (
+    "import resource, subprocess, sys; done = subprocess.run(sys.argv[1:]); "
+    "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss, file=sys.stderr); "
+    "sys.exit(done.returncode)"
+)
+"""Runs a command and prints the largest resident set (KiB) of it and its workers: a
+process of its own, so that the processes this benchmark started before do not count."""
+
+
 def _timed_scan(checkout: Path, command: list[str], label: str) -> tuple[float, dict]:
     """``bendwise scan`` of one checkout in a fresh process: wall time, printed scores."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
-    done = subprocess.run(command, capture_output=True, text=True, check=True, cwd=checkout,
+    done = subprocess.run([sys.executable, "-c", _PEAK, *command], capture_output=True,
+                          text=True, check=True, cwd=checkout,
                           env={**os.environ, "PYTHONPATH": str(checkout)})  # fmt: skip
     wall = time.perf_counter() - start
     print(f"{label + ', end to end:':49s}{wall:7.2f} s; {_load()}")
-    # CPU time of the scan and its workers (less shaken than wall time on a shared
-    # machine), and the largest resident set of any process finished so far (the hand
-    # loop ran in this process, so it counts in neither).
+    # CPU time of the scan and its workers: less shaken than wall time on a shared machine.
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
     user, system = after.ru_utime - before.ru_utime, after.ru_stime - before.ru_stime
-    print(f"  CPU time of the scan's processes: user {user:.2f} s, system {system:.2f} s")
-    print(f"  peak resident memory of any scan process so far: {after.ru_maxrss / 1024:.0f} MiB")
+    peak = int(done.stderr.split()[-1]) / 1024
+    print(f"  CPU time of the scan's processes: user {user:.2f} s, system {system:.2f} s; "
+          f"peak resident memory {peak:.0f} MiB")  # fmt: skip
     return wall, {r["column"]: r for r in json.loads(done.stdout)}
 
 

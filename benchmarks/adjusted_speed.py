@@ -13,7 +13,8 @@ process, reading the file, both passes) against a hand loop that reads the file 
 the same two statsmodels fits per column (linear and 4-knot restricted cubic spline,
 covariates in both), timed one after the other in the same run, with the load average of
 the machine beside them; and the largest relative difference between the printed scores
-and the loop's likelihood-ratio statistics. Timing belongs here, never in the test suite.
+and the loop's likelihood-ratio statistics, and the CPU time and peak resident memory
+of the scan's processes. Timing belongs here, never in the test suite.
 The printout is also written to benchmarks/results/adjusted_speed.md (``--results``
 elsewhere).
 """
@@ -23,6 +24,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import subprocess
 import sys
 import tempfile
@@ -78,7 +80,34 @@ def _load() -> str:
     return f"load average {one:.2f}, {five:.2f}, {fifteen:.2f}"
 
 
-def _end_to_end(frame, columns: list[str], covariates: list[str]) -> None:
+_PEAK = (
+    "import resource, subprocess, sys; done = subprocess.run(sys.argv[1:]); "
+    "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss, file=sys.stderr); "
+    "sys.exit(done.returncode)"
+)
+"""Runs a command and prints the largest resident set (KiB) of it and its workers: a
+process of its own, so that the processes this benchmark started before do not count."""
+
+
+def _timed_scan(checkout: Path, command: list[str], label: str) -> tuple[float, dict]:
+    """``bendwise scan`` of one checkout in a fresh process: wall time, printed scores."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    start = time.perf_counter()
+    done = subprocess.run([sys.executable, "-c", _PEAK, *command], capture_output=True,
+                          text=True, check=True, cwd=checkout,
+                          env={**os.environ, "PYTHONPATH": str(checkout)})  # fmt: skip
+    wall = time.perf_counter() - start
+    print(f"{label + ', end to end:':49s}{wall:7.2f} s; {_load()}")
+    # CPU time of the scan and its workers: less shaken than wall time on a shared machine.
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    user, system = after.ru_utime - before.ru_utime, after.ru_stime - before.ru_stime
+    peak = int(done.stderr.split()[-1]) / 1024
+    print(f"  CPU time of the scan's processes: user {user:.2f} s, system {system:.2f} s; "
+          f"peak resident memory {peak:.0f} MiB")  # fmt: skip
+    return wall, {r["column"]: r for r in json.loads(done.stdout)}
+
+
+def _end_to_end(frame, columns: list[str], covariates: list[str], earlier: Path | None) -> None:
     with tempfile.TemporaryDirectory() as tmp:
         path = Path(tmp) / "extract.parquet"
         frame.to_parquet(path)
@@ -90,16 +119,18 @@ def _end_to_end(frame, columns: list[str], covariates: list[str]) -> None:
         joined = ",".join(covariates)
         command = [sys.executable, "-m", "tui", "scan", str(path), "--outcome", OUTCOME,
                    "--adjust", joined, "--exclude", joined, "--format", "json"]  # fmt: skip
-        start = time.perf_counter()
-        done = subprocess.run(command, capture_output=True, text=True, check=True, cwd=REPO,
-                              env={**os.environ, "PYTHONPATH": str(REPO)})  # fmt: skip
-        scan = time.perf_counter() - start
-        print(f"bendwise scan --adjust, end to end:               {scan:7.2f} s; {_load()}")
+        if earlier is not None:
+            old_wall, old = _timed_scan(earlier, command, f"the same scan from {earlier}")
+            print(f"ratio: {loop / old_wall:.1f}x faster than the hand loop")
+        scan, rows = _timed_scan(REPO, command, "bendwise scan --adjust")
         print(f"ratio: {loop / scan:.1f}x faster than the hand loop")
-        printed = {r["column"]: r["score"] for r in json.loads(done.stdout)}
-        worst = max(abs(printed[c] - v) / max(abs(v), 1e-12) for c, v in expected.items())
+        worst = max(abs(rows[c]["score"] - v) / max(abs(v), 1e-12) for c, v in expected.items())
         print(f"largest relative score difference against the loop ({len(columns)} columns): "
               f"{worst:.1e}")  # fmt: skip
+        if earlier is not None:
+            same = sum(rows[c]["best_form"] == old[c]["best_form"] for c in columns)
+            print(f"best form the same as the earlier checkout's in {same} of {len(columns)} "
+                  f"columns; {old_wall / scan:.2f}x its wall time")  # fmt: skip
 
 
 def main() -> int:
@@ -112,6 +143,12 @@ def main() -> int:
         type=Path,
         default=results_path("adjusted_speed"),
         help="results file to rewrite (default: benchmarks/results/adjusted_speed.md)",
+    )
+    parser.add_argument(
+        "--before",
+        type=Path,
+        metavar="CHECKOUT",
+        help="also time the scan from this checkout (e.g. a worktree of main), right before",
     )
     args = parser.parse_args()
     with recorded("adjusted_speed", args.results):
@@ -146,7 +183,7 @@ def _run(args: argparse.Namespace) -> None:
     direct = _direct_score(values_of(top.column), y.astype(float), covariates)
     print(f"spot check, {top.column}: bendwise {top.score:.6f}, statsmodels {direct:.6f}, "
           f"difference {abs(top.score - direct):.2e}")  # fmt: skip
-    _end_to_end(frame, columns, covariate_names)
+    _end_to_end(frame, columns, covariate_names, args.before)
 
 
 if __name__ == "__main__":

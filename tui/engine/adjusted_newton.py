@@ -29,8 +29,11 @@ _RANK_DOUBT = 1e-6
 of ``fit_logistic`` (its own threshold is 1e-9 on the same scale)."""
 _SEPARATION_ETA = 30.0
 _CHORD_STEPS = 12
-_CHORD_DONE = 1e-6
-"""A chord step this small leaves an error of about the rate times the step: settled."""
+_GAIN_DONE = 1e-9
+"""Settled when the next chord step would raise the log-likelihood by less than this. The
+figure returned is the likelihood where that step starts plus the step's predicted gain,
+so no further pass over the rows is needed; with steps shrinking by at least half each
+time, what is still missing is below the gain itself."""
 _CHORD_RATE = 0.5
 """Steps that shrink by less than this per step hand over to full Newton steps."""
 _WILD_STEP = 50.0
@@ -80,6 +83,18 @@ class CovariateBlock:
     """Covariates-only fit on the standardised scale."""
     unit: bool
     """Every row counts once (no weights)."""
+    base_mean: np.ndarray
+    """Fitted probabilities of the covariates-only fit, per usable row."""
+    base_root: np.ndarray
+    """Square roots of that fit's Newton weights, per usable row."""
+    weighted: np.ndarray
+    """``standard`` times ``base_root`` (covariate rows of every Hessian at that fit)."""
+    cross: np.ndarray
+    """``weighted @ weighted.T``: the covariate block of that Hessian on every usable row."""
+    base_eta: np.ndarray
+    """Log-odds of that fit, per usable row."""
+    base_resid: np.ndarray
+    """Events minus that fit's expected events, per usable row."""
 
     @property
     def width(self) -> int:
@@ -109,7 +124,15 @@ def covariate_block(
         found = newton(standard, events, None if unit else trials, beta)
         if found is not None:
             beta = found[0]
-    return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit)
+    # Every column without missing values shares these; one with some removes its rows.
+    base_eta = beta @ standard
+    base_mean = fitted_mean(base_eta)
+    root = np.sqrt(trials * base_mean * (1.0 - base_mean))
+    weighted = standard * root
+    cross = weighted @ weighted.T
+    resid = events - trials * base_mean
+    return CovariateBlock(usable, design, standard, centre, scale, events, trials, beta, unit,
+                          base_mean, root, weighted, cross, base_eta, resid)  # fmt: skip
 
 
 def newton(
@@ -159,6 +182,7 @@ def chord(
     events: np.ndarray,
     trials: np.ndarray | None,
     start: np.ndarray,
+    eta: np.ndarray | None = None,
 ) -> tuple[np.ndarray, float | None]:
     """Newton steps that keep one Hessian (the chord method), on ``parts`` = covariate
     rows and form rows of the standardised design.
@@ -168,7 +192,8 @@ def chord(
     the rows instead of a cross product. Converges linearly, at a rate set by how far the
     form moves the fitted probabilities. Returns (coefficients, log-likelihood) when
     settled, or (coefficients so far, None) when the steps do not shrink fast enough (the
-    caller goes on with full Newton steps from there).
+    caller goes on with full Newton steps from there). ``eta``: the start's log-odds, when
+    the caller has them without a pass over the design.
     """
     top, low = parts
     c = top.shape[0]
@@ -179,24 +204,42 @@ def chord(
     pivots = np.abs(np.diagonal(chol))
     if pivots.min() < _RANK_DOUBT * pivots.max():
         return beta, None
-    eta = beta[:c] @ top + beta[c:] @ low
+    eta = np.array(beta[:c] @ top + beta[c:] @ low if eta is None else eta, dtype=float)
+    # Buffers reused by every step: no temporary the size of the rows is made per step.
+    down, resid = np.empty_like(eta), np.empty_like(eta)
+    expected = 1.0 if trials is None else trials
     previous = np.inf
     for _ in range(_CHORD_STEPS):
-        mu = fitted_mean(eta)
-        resid = events - (mu if trials is None else trials * mu)
+        np.negative(eta, out=down)
+        with np.errstate(over="ignore"):
+            np.exp(down, out=down)
+        np.add(down, 1.0, out=resid)
+        np.divide(expected, resid, out=resid)  # expected events
+        np.subtract(events, resid, out=resid)
         grad = np.concatenate([top @ resid, low @ resid])
         step, info = lapack.dpotrs(chol, grad, lower=0)
         moved = float(np.abs(step).max())
         if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
             return beta, None
-        beta = beta + step
-        eta = beta[:c] @ top + beta[c:] @ low
-        if moved < _CHORD_DONE:
+        gain = 0.5 * float(grad @ step)
+        if gain < _GAIN_DONE:
             if float(np.abs(eta).max(initial=0.0)) > _SEPARATION_ETA:
                 return beta, None
-            return beta, loglik(eta, events, trials)
+            return beta + step, _loglik_down(eta, down, events, trials) + gain
+        beta = beta + step
+        np.dot(beta[:c], top, out=eta)
+        eta += beta[c:] @ low
         previous = moved
     return beta, None
+
+
+def _loglik_down(
+    eta: np.ndarray, down: np.ndarray, events: np.ndarray, trials: np.ndarray | None
+) -> float:
+    """``loglik`` from exp(-eta) already at hand (|eta| at most 30, so it is finite):
+    log(1 + exp(eta)) = eta + log1p(exp(-eta)), accurate to a few units of eta's last digit."""
+    soft = eta + np.log1p(down)
+    return float(events @ eta - (soft.sum() if trials is None else trials @ soft))
 
 
 @dataclass(frozen=True, eq=False)
@@ -225,27 +268,37 @@ class ColumnRows:
     """``standard`` times ``base_root``: the covariate rows of every Hessian at that fit."""
     covariate_means: np.ndarray
     """Weighted means of the covariates on these rows (where curves are drawn)."""
+    base_eta: np.ndarray
+    """Log-odds of the covariates-only fit on those rows."""
+    base_resid: np.ndarray
+    """Events minus that fit's expected events on those rows."""
 
     @staticmethod
     def of(block: CovariateBlock, x_all: np.ndarray) -> ColumnRows:
         """Rows of ``x_all`` (every data row) that a fit of this column uses."""
         x = np.asarray(x_all, dtype=float)[block.usable]
         finite = np.isfinite(x)
-        keep = None if finite.all() else finite
-        standard, events, trials = block.standard, block.events, block.trials
-        if keep is not None:
-            x, standard = x[keep], np.ascontiguousarray(standard[:, keep])
-            events, trials = events[keep], trials[keep]
-        base_mean = fitted_mean(block.beta @ standard)
-        root = np.sqrt(trials * base_mean * (1.0 - base_mean))
-        weighted = standard * root
-        cross = weighted @ weighted.T
-        means = block.centre
-        if keep is not None:
-            means = (block.design[keep].T @ trials) / float(trials.sum())
-        return ColumnRows(
-            block, keep, x, standard, events, trials, base_mean, root, cross, weighted, means
-        )
+        if finite.all():
+            return ColumnRows(block, None, x, block.standard, block.events, block.trials,
+                              block.base_mean, block.base_root, block.cross, block.weighted,
+                              block.centre, block.base_eta, block.base_resid)  # fmt: skip
+        keep = finite
+        x = x[keep]
+        standard = np.ascontiguousarray(block.standard[:, keep])
+        events, trials = block.events[keep], block.trials[keep]
+        base_mean, root = block.base_mean[keep], block.base_root[keep]
+        weighted = np.ascontiguousarray(block.weighted[:, keep])
+        if 4 * x.size > 3 * keep.size:
+            # A few rows left out: take their share off the whole block's cross product
+            # (a quarter of the rows at most, so nothing near cancels).
+            gone = block.weighted[:, ~keep]
+            cross = block.cross - gone @ gone.T
+        else:
+            cross = weighted @ weighted.T
+        means = (block.design[keep].T @ trials) / float(trials.sum())
+        eta, resid = block.base_eta[keep], block.base_resid[keep]
+        return ColumnRows(block, keep, x, standard, events, trials, base_mean, root, cross,
+                          weighted, means, eta, resid)  # fmt: skip
 
     @property
     def covariates(self) -> np.ndarray:
@@ -258,10 +311,9 @@ class ColumnRows:
         beta = np.zeros(self.standard.shape[0] + basis_t.shape[0])
         beta[: self.standard.shape[0]] = self.block.beta
         first = basis_t[0]
-        fitted = self.trials * self.base_mean
         info = float(np.square(first * self.base_root).sum())
         if info > 0:
-            beta[self.standard.shape[0]] = float(first @ (self.events - fitted)) / info
+            beta[self.standard.shape[0]] = float(first @ self.base_resid) / info
         return beta
 
     def base_hessian(self, basis_t: np.ndarray) -> np.ndarray:
@@ -282,37 +334,46 @@ class ColumnRows:
         cols = np.ascontiguousarray(np.asarray(basis, dtype=float).reshape(self.x.size, -1).T)
         centre, scale = scaling(cols, self.trials)
         basis_t = (cols - centre[:, None]) / scale[:, None]
+        eta = None
         if start is None or start.size != self.standard.shape[0] + basis_t.shape[0]:
             start = self.start(basis_t)
+            # Only the first form column moved from the covariates-only fit.
+            eta = self.base_eta + start[self.standard.shape[0]] * basis_t[0]
         trials = None if self.block.unit else self.trials
         hessian = self.base_hessian(basis_t)
-        beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start)
+        beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start, eta)
         found = None if ll is None else (beta, ll)
         if found is None:
             xt = np.vstack([self.standard, basis_t])
             found = newton(xt, self.events, trials, beta)
-        scale_all = np.concatenate(([1.0], self.block.scale, scale))
-        centre_all = np.concatenate(([0.0], self.block.centre, centre))
         if found is None:
             # fit_logistic judges this design (step halving, separation), starting from
             # where the fast steps stopped when they stayed finite.
+            scale_all = np.concatenate(([1.0], self.block.scale, scale))
+            centre_all = np.concatenate(([0.0], self.block.centre, centre))
             design = np.column_stack([np.ones(self.x.size), self.covariates, cols.T])
             coef = _original_scale(beta, centre_all, scale_all)
             start = coef if np.all(np.isfinite(coef)) else None
             return fit_logistic(design, self.events, self.trials, start=start), None
         beta, ll = found
-        c = self.block.width
-        coef = _original_scale(beta, centre_all, scale_all)
-        fit = LogisticFit(
-            coef=coef,
+        return self.settled(beta, ll, centre, scale), beta
+
+    def settled(
+        self, beta: np.ndarray, ll: float, centre: np.ndarray, scale: np.ndarray
+    ) -> LogisticFit:
+        """The fit that fast steps settled: ``beta`` on the standardised scale, the form's
+        columns centred at ``centre`` and scaled by ``scale``."""
+        scale_all = np.concatenate(([1.0], self.block.scale, scale))
+        centre_all = np.concatenate(([0.0], self.block.centre, centre))
+        return LogisticFit(
+            coef=_original_scale(beta, centre_all, scale_all),
             llf=ll,
             nobs=float(self.trials.sum()),
-            n_params=c + cols.shape[0],
+            n_params=self.block.width + int(scale.size),
             converged=True,
             separated=False,
             rank_deficient=False,
         )
-        return fit, beta
 
 
 def _original_scale(beta: np.ndarray, centre: np.ndarray, scale: np.ndarray) -> np.ndarray:

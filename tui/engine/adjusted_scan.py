@@ -41,6 +41,7 @@ from tui.engine.forms.fracpoly import POWERS, Fp1Candidate
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.shift import learn_shift
 from tui.engine.forms.spline import SPLINE
+from tui.engine.heap import reuse_freed_memory
 from tui.engine.robust_wald import LR
 from tui.engine.scan import ColumnScan, ScanSettings, _shape_hint, scan_column
 from tui.engine.shape import curve_shape
@@ -83,6 +84,7 @@ class AdjustedScanner:
         self.settings = settings
         self.candidates = triage_candidates(settings.groups, settings.knots, False)
         self._blocks: dict[tuple[str, ...], CovariateBlock] = {}
+        reuse_freed_memory()  # row-sized temporaries in every step (engine.heap)
 
     def handles(self, column: str) -> bool:
         """The column has covariates to be adjusted for (else the counts path serves it).
@@ -238,7 +240,7 @@ class _Column:
         )
 
     def _fit(self, kind: str, recoding: Recoding) -> LogisticFit:
-        basis = recoding.apply(self.rows.x)
+        basis = _basis(recoding, self.rows.x)
         if not np.all(np.isfinite(basis)):
             raise RecodingError("the form gives non-finite values on the training data")
         start = None
@@ -345,6 +347,15 @@ class _Column:
             statistic=LR,  # survey weights never take this path (``handles``)
             shape=curve_shape(grid, spline.log_odds(grid)),
         )
+
+
+def _basis(recoding: Recoding, x: np.ndarray) -> np.ndarray:
+    """``recoding.apply`` on x that is finite on every row: a triage candidate has no clip
+    and no fill, so the form's own columns serve, without the copy into a NaN frame."""
+    if recoding.clip is not None or recoding.missing is not None:
+        return recoding.apply(x)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        return np.asarray(recoding.form.apply(recoding.params, x), dtype=float).reshape(x.size, -1)
 
 
 def _failed(candidate: Candidate, problem: str) -> FormFit:

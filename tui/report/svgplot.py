@@ -29,8 +29,8 @@ def svg_plot(d: DecisionSection, outcome: str) -> str:
     window = d.window
     if window is None or len(points) < 2:
         return "<p>(too few groups to draw)</p>"
-    # Imported here: matplotlib takes about half a second to load, and every command
-    # (a scan too) loads this module through the command line's imports.
+    # matplotlib takes about a second to import: loaded here, only when a report draws,
+    # so that every other command (scan, replay, ...) starts without it.
     import matplotlib
     from matplotlib.figure import Figure
 

@@ -131,6 +131,7 @@ class KeyTable(DataTable):
         # Each row's cells as last drawn, with the fields and widths they were cut from:
         # a filter cleared or a list re-scored re-adds rows whose text has not changed.
         self._cells: dict[str, tuple[dict[str, str], tuple[int, ...], tuple[object, ...]]] = {}
+        self._longest_of: dict[str, int] | None = None  # of the rows shown, by field
 
     def on_resize(self, event: events.Resize) -> None:
         self._layout(event.size.width)
@@ -139,6 +140,7 @@ class KeyTable(DataTable):
         """Show these rows, keeping the cursor on the same key where possible."""
         same = len(rows) == len(self._rows) and dict(rows) == dict(self._rows)
         self._rows = list(rows)
+        self._longest_of = None
         if self._layout(self.size.width or 80):
             return
         key = self.highlighted_key()
@@ -200,8 +202,16 @@ class KeyTable(DataTable):
         return True
 
     def _longest(self, spec: ColumnSpec) -> int:
-        """The longest text of a column, header included."""
-        return max([len(spec.header)] + [len(fields[spec.key]) for _, fields in self._rows])
+        """The longest text of a column, header included (the rows' lengths are found
+        once per set of rows: a resize or a re-layout asks again)."""
+        if self._longest_of is None:
+            longest: dict[str, int] = {}
+            for _, fields in self._rows:
+                for key, text in fields.items():
+                    if len(text) > longest.get(key, 0):
+                        longest[key] = len(text)
+            self._longest_of = longest
+        return max(len(spec.header), self._longest_of.get(spec.key, 0))
 
     def _fill(self) -> None:
         self.clear()

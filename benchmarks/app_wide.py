@@ -6,8 +6,8 @@
 Writes the invented extract (benchmarks/synthetic.py: fixed seed; continuous, skewed,
 whole-number and 5%-missing columns, a few planted shapes; beyond 500 columns the planted
 effects centred and scaled down as in wide_speed.py) as Parquet, then drives the app headless
-with Textual's Pilot, as ``bendwise review`` runs it (two passes on worker processes), and
-prints:
+with Textual's Pilot, as ``bendwise review`` runs it (first pass in the scan thread,
+second on worker processes), and prints:
 
 1. time to open the data (``open_session``), to the first rows listed, to the end of the
    first pass (every score and q-value in: the list is final in order), and to the end of

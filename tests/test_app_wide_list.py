@@ -146,3 +146,40 @@ def test_clearing_the_filter_shows_every_column_again_with_decisions_made_meanwh
             assert "names containing" not in str(screen.query_one("#summary", Line).render())
 
     asyncio.run(go())
+
+
+def test_cells_drawn_directly_equal_datatables_own_drawing() -> None:
+    # Every visible cell in every state the list has: zebra rows, the cursor row (its
+    # mark), the hover row, focused and not; headers are DataTable's own in both.
+    from textual.widgets import DataTable
+
+    async def go() -> None:
+        app = Pair()
+        async with app.run_test(size=(60, 40)) as pilot:
+            table = app.query_one("#fast", Plain)
+            table.show_rows(rows_of(30))
+            await pilot.pause()
+            table.focus()
+            await pilot.press("down", "down")
+            table.hover_coordinate = table.cursor_coordinate.down()
+            await pilot.pause()
+            compared = 0
+            for focused in (True, False):
+                if not focused:
+                    app.query_one("#slow", Plain).focus()
+                    await pilot.pause()
+                for row in range(8):
+                    for column in range(len(table.columns)):
+                        width = table.ordered_columns[column].get_render_width(table)
+                        for cursor, hover in ((False, False), (True, False), (False, True)):
+                            style = table._get_row_style(row, table.rich_style)
+                            args = (row, column, style, width, cursor, hover)
+                            direct = table._render_cell(*args)
+                            table._cell_render_cache.clear()
+                            own = DataTable._render_cell(table, *args)
+                            assert direct == own, (row, column, cursor, hover)
+                            compared += 1
+            assert compared == 2 * 8 * 3 * 3
+            assert table._plain_cell(0, 0, table.ordered_columns[0].get_render_width(table))
+
+    asyncio.run(go())

@@ -111,13 +111,8 @@ class TwoPassScan:
         total = len(self.columns)
         scored: list[ColumnScan] = []
         if self._workers <= 1:
+            yield from self._first_in_thread()
             with one_blas_thread():
-                for name in self.columns:
-                    reduced = self._reduce(name)
-                    scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
-                    if len(scored) == total:
-                        self._order(scored)
-                    yield ScanStep("score", scored[-1], len(scored), total)
                 for done, name in enumerate(iter(self._next, None), start=1):
                     yield ScanStep("forms", self._second(name), done, total)
             return
@@ -169,23 +164,27 @@ class TwoPassScan:
 
     def _first_here_then_workers(self, context: BaseContext) -> Iterator[ScanStep]:
         """First pass in this thread; second pass on workers started meanwhile."""
-        total = len(self.columns)
         executor = ProcessPoolExecutor(self._workers, context, initializer=_quiet_worker)
         # The workers start during the first pass. Starting the first one waits for a
         # fork server to boot (seconds on a busy machine): a helper thread waits instead.
         threading.Thread(target=_start, args=(executor, self._workers), daemon=True).start()
         try:
-            scored: list[ColumnScan] = []
-            with one_blas_thread():
-                for name in self.columns:
-                    reduced = self._reduce(name)
-                    scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
-                    if len(scored) == total:
-                        self._order(scored)
-                    yield ScanStep("score", scored[-1], len(scored), total)
+            yield from self._first_in_thread()
             yield from self._second_on(executor, AHEAD_PER_WORKER * self._workers)
         finally:
             executor.shutdown(wait=False, cancel_futures=True)
+
+    def _first_in_thread(self) -> Iterator[ScanStep]:
+        """The first pass in this thread: read, reduce and score each column."""
+        total = len(self.columns)
+        scored: list[ColumnScan] = []
+        with one_blas_thread():
+            for name in self.columns:
+                reduced = self._reduce(name)
+                scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
+                if len(scored) == total:
+                    self._order(scored)
+                yield ScanStep("score", scored[-1], len(scored), total)
 
     def _second_on(self, executor: ProcessPoolExecutor, limit: int) -> Iterator[ScanStep]:
         """The second pass on worker processes, on the counts the first pass kept."""

@@ -145,7 +145,7 @@ STEPS: list[tuple[str, Step, int]] = [
 """Typed before the timed letter: about half of 2,000 names hold it, a tenth of those "p10"."""
 
 
-async def _setup(what: str, repeat: int) -> tuple[str, ...]:
+def _setup(what: str, repeat: int) -> tuple[str, ...]:
     """Untimed keys before a timed one: the filter typed before its next letter (then the
     letter taken back), a filter to clear (the letter's is there for the first)."""
     if what.startswith("filter: one"):
@@ -157,7 +157,7 @@ async def _setup(what: str, repeat: int) -> tuple[str, ...]:
 
 async def _drive(path: Path, fill: str) -> tuple[float, dict[str, list[float]], str]:
     """Fill the list (``fill``: "cache" or "scan"), then time every step."""
-    how = "the app's own scan (two passes on engine worker processes, as `bendwise review`)"
+    how = "the app's own scan, as `bendwise review` runs it"
     scanner = None
     if fill == "cache":
         results, how = cached_scan(path)

@@ -183,3 +183,27 @@ def test_cells_drawn_directly_equal_datatables_own_drawing() -> None:
             assert table._plain_cell(0, 0, table.ordered_columns[0].get_render_width(table))
 
     asyncio.run(go())
+
+
+def test_a_filter_with_other_widths_keeps_the_whole_lists_cells() -> None:
+    async def go() -> None:
+        app = Pair()
+        async with app.run_test(size=(60, 40)) as pilot:
+            table = app.query_one("#fast", Plain)
+            rows = rows_of(20)
+            rows[10] = ("c010", dict(rows[10][1], note="a longer note"))
+            table.show_rows(rows)
+            await pilot.pause()
+            whole = [table.get_row_at(i) for i in range(20)]
+            note_width = table.ordered_columns[2].width
+            table.show_rows(rows[:2])  # notes n0 and n1 only: a narrower note column
+            await pilot.pause()
+            assert table.ordered_columns[2].width < note_width
+            table.show_rows(rows)
+            await pilot.pause()
+            again = [table.get_row_at(i) for i in range(20)]
+            pairs = zip(whole, again, strict=True)
+            assert all(a is b for old, new in pairs for a, b in zip(old, new, strict=True))
+            assert [c.plain for c in again[5]] == [c.plain for c in whole[5]]
+
+    asyncio.run(go())

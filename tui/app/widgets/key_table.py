@@ -105,6 +105,10 @@ class LeadCell:
         yield self.text
 
 
+KEPT_WIDTHS = 3
+"""Sets of column widths whose cells a table keeps (the whole list's and a filter's)."""
+
+
 class KeyTable(DataTable):
     """Row cursor, zebra stripes, j/k as well as the arrows; the fields shown follow the
     width (``SPECS`` lists them), so nothing scrolls sideways."""
@@ -131,9 +135,11 @@ class KeyTable(DataTable):
         super().__init__(id=id, cursor_type="row", zebra_stripes=True, cell_padding=0)
         self._shown: list[tuple[ColumnSpec, int]] = []
         self._rows: list[Row] = []
-        # Each row's cells as last drawn, with the fields and widths they were cut from:
-        # a filter cleared or a list re-scored re-adds rows whose text has not changed.
-        self._cells: dict[str, tuple[dict[str, str], tuple[int, ...], tuple[object, ...]]] = {}
+        # Each row's cells by the widths they were cut to, with the fields they were cut
+        # from: a filter cleared or a list re-scored re-adds rows whose text has not
+        # changed. A filtered list may have other widths (its longest numbers), so the
+        # cells of the last few sets of widths are kept.
+        self._cells: dict[tuple[int, ...], dict[str, tuple[dict[str, str], tuple]]] = {}
         self._longest_of: dict[str, int] | None = None  # of the rows shown, by field
 
     def on_resize(self, event: events.Resize) -> None:
@@ -219,21 +225,26 @@ class KeyTable(DataTable):
     def _fill(self) -> None:
         self.clear()
         if not self._shown:
-            self._cells.clear()
             return
-        self._add_all([(key, self._row_cells(key, fields)) for key, fields in self._rows])
-
-    def _row_cells(self, key: str, fields: dict[str, str]) -> tuple[object, ...]:
-        """The row's cells: those kept from the last fill when its text and the widths
-        are the same (cutting 2,000 rows of text anew took a quarter of a second)."""
         widths = tuple(w for _, w in self._shown)
-        kept = self._cells.get(key)
-        if kept is not None and kept[1] == widths and kept[0] == fields:
-            return kept[2]
+        kept = self._cells.pop(widths, {})
+        self._cells[widths] = kept  # the latest last
+        while len(self._cells) > KEPT_WIDTHS:
+            del self._cells[next(iter(self._cells))]
+        self._add_all([(key, self._row_cells(kept, key, fields)) for key, fields in self._rows])
+
+    def _row_cells(
+        self, kept: dict[str, tuple[dict[str, str], tuple]], key: str, fields: dict[str, str]
+    ) -> tuple:
+        """The row's cells: those kept from an earlier fill at these widths when its text
+        is the same (cutting 2,000 rows of text anew took a quarter of a second)."""
+        old = kept.get(key)
+        if old is not None and old[0] == fields:
+            return old[1]
         (first, width), rest = self._shown[0], self._shown[1:]
         lead = LeadCell(self, key, fields[first.key], width, first.right)
         cells = (lead, *(cell(fields[s.key], w, s.right) for s, w in rest))
-        self._cells[key] = (fields, widths, cells)
+        kept[key] = (fields, cells)
         return cells
 
     def _render_cell(
@@ -315,6 +326,3 @@ class KeyTable(DataTable):
         if rows and self.show_cursor:
             self._highlight_cursor()  # add_row does so when the first row arrives
         self.check_idle()
-        if len(self._cells) > 2 * len(rows) + 100:  # drop cells of rows long gone
-            shown = {key for key, _ in self._rows}
-            self._cells = {k: v for k, v in self._cells.items() if k in shown}

@@ -6,8 +6,8 @@
 Writes the invented extract (benchmarks/synthetic.py: fixed seed; continuous, skewed,
 whole-number and 5%-missing columns, a few planted shapes; beyond 500 columns the planted
 effects centred and scaled down as in wide_speed.py) as Parquet, then drives the app headless
-with Textual's Pilot, as ``bendwise review`` runs it (two passes on worker processes), and
-prints:
+with Textual's Pilot, as ``bendwise review`` runs it (first pass in the scan thread,
+second on worker processes), and prints:
 
 1. time to open the data (``open_session``), to the first rows listed, to the end of the
    first pass (every score and q-value in: the list is final in order), and to the end of
@@ -126,38 +126,42 @@ async def _keys_round(pilot, keys: Keys, phase: str, downs: int = 8) -> str | No
 
 async def _drive(path: Path) -> None:
     start = time.perf_counter()
-    session = open_session(path, OUTCOME)
+    # The log (and its lock) beside the data in the temp folder, released at the end.
+    session = open_session(path, OUTCOME, log_path=path.with_suffix(".recodings.json"))
     opened = time.perf_counter() - start
     app = ReviewApp(session)
     keys = Keys()
     marks: dict[str, float] = {}
-    async with app.run_test(size=SIZE) as pilot:
-        table = app.screen.query_one(TriageTable)
-        await _until(pilot, lambda: table.row_count > 0)
-        marks["first rows"] = time.perf_counter() - start
-        rows_then = table.row_count
-        while not session.scan_finished:
-            await keys.press(pilot, "first pass", "down", lambda: True)
-            await pilot.pause(0.2)
-        marks["first pass"] = time.perf_counter() - start
-        forms_then = sum(1 for s in session.ranked if s.forms_fitted)
-        # Open a column the second pass has not reached: the lowest-ranked scored one.
-        waiting = [s.column for s in session.ranked if s.score is not None]
-        target = waiting[-1] if waiting else None
-        jumped = None
-        if target is not None and not session.scan_of(target).forms_fitted:
-            table.move_to_key(target)
-            opened_at = time.perf_counter()
-            await pilot.press("enter")
-            await _until(pilot, lambda: session.scan_of(target).forms_fitted, 300.0)
-            jumped = time.perf_counter() - opened_at
-            await pilot.press("escape")
-        during = app.scanning()
-        if during:
-            await _keys_round(pilot, keys, "second pass")
-        await _until(pilot, lambda: not app.scanning(), 900.0)
-        marks["second pass"] = time.perf_counter() - start
-        await _keys_round(pilot, keys, "after the scan")
+    try:
+        async with app.run_test(size=SIZE) as pilot:
+            table = app.screen.query_one(TriageTable)
+            await _until(pilot, lambda: table.row_count > 0)
+            marks["first rows"] = time.perf_counter() - start
+            rows_then = table.row_count
+            while not session.scan_finished:
+                await keys.press(pilot, "first pass", "down", lambda: True)
+                await pilot.pause(0.2)
+            marks["first pass"] = time.perf_counter() - start
+            forms_then = sum(1 for s in session.ranked if s.forms_fitted)
+            # Open a column the second pass has not reached: the lowest-ranked scored one.
+            waiting = [s.column for s in session.ranked if s.score is not None]
+            target = waiting[-1] if waiting else None
+            jumped = None
+            if target is not None and not session.scan_of(target).forms_fitted:
+                table.move_to_key(target)
+                opened_at = time.perf_counter()
+                await pilot.press("enter")
+                await _until(pilot, lambda: session.scan_of(target).forms_fitted, 300.0)
+                jumped = time.perf_counter() - opened_at
+                await pilot.press("escape")
+            during = app.scanning()
+            if during:
+                await _keys_round(pilot, keys, "second pass")
+            await _until(pilot, lambda: not app.scanning(), 900.0)
+            marks["second pass"] = time.perf_counter() - start
+            await _keys_round(pilot, keys, "after the scan")
+    finally:
+        session.book.close()  # releases the lock on the log
     print(f"1. open the data {opened:.2f} s; from the start of `review` to:")
     print(f"   first rows listed {marks['first rows']:.2f} s ({rows_then} rows then)")
     print(f"   end of first pass {marks['first pass']:.2f} s ({forms_then} best forms in then)")

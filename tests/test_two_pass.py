@@ -1,7 +1,9 @@
 """A two-pass scan gives a one-pass scan's results, scores first; a column can jump the
 second pass's queue."""
 
+import multiprocessing
 import threading
+import time
 
 import numpy as np
 
@@ -77,3 +79,37 @@ def test_a_column_asked_for_during_the_first_pass_comes_first(rng):
     assert scan.prioritise("c5")
     rest = list(steps)
     assert [s.scan.column for s in rest if s.stage == "forms"][0] == "c5"
+
+
+def test_first_pass_in_the_calling_thread_gives_the_same_steps(rng):
+    # As the review app runs it: the first pass in its scan thread (threads run, so the
+    # second pass's workers come from a fork server), the second on two workers.
+    cols, y = _data(rng)
+    names = list(cols)
+    one = {s.column: s for s in scan_columns(names, cols.__getitem__, y, workers=1)}
+    out = []
+    scan = TwoPassScan(names, cols.__getitem__, y, workers=2, first_here=True)
+
+    def run() -> None:
+        steps = iter(scan)
+        out.extend(next(steps) for _ in names)
+        assert scan.prioritise("c5")  # asked for as the first pass ends: fitted first
+        out.extend(steps)
+
+    worker = threading.Thread(target=run)
+    worker.start()
+    worker.join()
+    _check(out, one, names)
+    assert [s.scan.column for s in out if s.stage == "forms"][0] == "c5"
+
+
+def test_a_scan_closed_in_its_first_pass_leaves_no_worker_behind(rng):
+    cols, y = _data(rng)
+    before = {p.pid for p in multiprocessing.active_children()}
+    steps = iter(TwoPassScan(list(cols), cols.__getitem__, y, workers=2, first_here=True))
+    assert next(steps).stage == "score"
+    steps.close()
+    deadline = time.monotonic() + 20
+    while {p.pid for p in multiprocessing.active_children()} - before:
+        assert time.monotonic() < deadline, "worker processes still running"
+        time.sleep(0.1)

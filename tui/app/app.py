@@ -61,6 +61,13 @@ TABLE_KEYS = [
 """Moving in any table (listed on the help screen)."""
 
 
+def first_here(*args: object, **kwargs: object) -> TwoPassScan:
+    """The engine's two passes with the first in the scan's thread: the first rows are
+    listed without waiting for worker processes to start (they start meanwhile and fit
+    the forms)."""
+    return TwoPassScan(*args, first_here=True, **kwargs)  # type: ignore[arg-type]
+
+
 class ReviewApp(App[None]):
     """``bendwise review``."""
 
@@ -89,7 +96,8 @@ class ReviewApp(App[None]):
     ) -> None:
         """``scanner`` re-scores in the working model and scans adjusted columns (one
         pass); ``two_pass`` runs the first scan of unadjusted columns, scores first and
-        forms second (default: the engine's ``TwoPassScan`` with the engine's scanner; a
+        forms second (default: the engine's ``TwoPassScan``, first pass in the scan
+        thread, with the engine's scanner; a
         scanner given alone, as in tests, runs the first scan in one pass too)."""
         # The engine scans on worker processes. Python starts a helper process for them on
         # first use, handing it stderr's file descriptor; once the app runs, sys.stderr is
@@ -98,7 +106,7 @@ class ReviewApp(App[None]):
         super().__init__()
         self.session = session
         self.scanner = scanner
-        self.two_pass = TwoPassScan if two_pass is None and scanner is scan_columns else two_pass
+        self.two_pass = first_here if two_pass is None and scanner is scan_columns else two_pass
         self._stream: StepStream | None = None  # the first scan's, while it runs
         self.cache = FitCache(session.dataset, session.settings.max_levels, session.adjustment)
         self.triage = TriageScreen(session, self.cache)
@@ -166,7 +174,9 @@ class ReviewApp(App[None]):
         adjust = s.adjustment(s.base)
         data = s.dataset
         if isinstance(data, ReducedData):  # counts from the engine: the two passes score them
-            return TwoPassScan(s.columns, None, None, s.settings, reduced_of=data.reduced.get)
+            return TwoPassScan(
+                s.columns, None, None, s.settings, reduced_of=data.reduced.get, first_here=True
+            )
         args = (s.columns, data.raw_values, data.outcome.y, s.settings)
         if self.two_pass is not None and (adjust is None or adjust.covariates is None):
             return self.two_pass(*args, adjust=adjust)

@@ -18,6 +18,7 @@ import threading
 from collections.abc import Callable, Iterable, Iterator
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from dataclasses import dataclass
+from multiprocessing.context import BaseContext
 from typing import Literal
 
 import numpy as np
@@ -71,9 +72,15 @@ class TwoPassScan:
         workers: int | None = None,
         adjust: Adjustment | None = None,
         reduced_of: Callable[[str], ReducedColumn] | None = None,
+        first_here: bool = False,
     ) -> None:
         """``reduced_of`` hands over counts reduced elsewhere (a source's engine); then
-        ``values_of`` and ``y`` are not read and workers receive the counts."""
+        ``values_of`` and ``y`` are not read and workers receive the counts.
+        ``first_here``: the first pass runs in the calling thread while the worker
+        processes start, and only the second pass uses them. A process that cannot fork
+        reduces every column itself anyway and the first pass's fits take milliseconds,
+        so the first scores come without waiting for workers to start."""
+        self._first_here = first_here
         self.columns = list(columns)
         self._reduced_of = reduced_of
         self._values_of, self._y, self._settings, self._adjust = values_of, y, settings, adjust
@@ -104,17 +111,15 @@ class TwoPassScan:
         total = len(self.columns)
         scored: list[ColumnScan] = []
         if self._workers <= 1:
+            yield from self._first_in_thread()
             with one_blas_thread():
-                for name in self.columns:
-                    reduced = self._reduce(name)
-                    scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
-                    if len(scored) == total:
-                        self._order(scored)
-                    yield ScanStep("score", scored[-1], len(scored), total)
                 for done, name in enumerate(iter(self._next, None), start=1):
                     yield ScanStep("forms", self._second(name), done, total)
             return
         context = _start_method()
+        if self._first_here:
+            yield from self._first_here_then_workers(context)
+            return
         forked = context.get_start_method() == "fork" and self._reduced_of is None
         if forked:
             executor = ProcessPoolExecutor(
@@ -153,28 +158,57 @@ class TwoPassScan:
                     if len(scored) == total:
                         self._order(scored)
                     yield ScanStep("score", kept, len(scored), total)
-            second: dict[Future[ColumnScan], str] = {}
-            finished = 0
-            while True:
-                while len(second) < limit:
-                    name = self._next()
-                    if name is None:
-                        break
-                    reduced = self._reduced.pop(name)
-                    if not _needs_forms(reduced, self._first_results[name]):
-                        finished += 1
-                        yield ScanStep("forms", self._first_results[name], finished, total)
-                        continue
-                    second[executor.submit(_forms_given, name, reduced, self._settings)] = name
-                if not second:
-                    break
-                done, _ = wait(second, return_when=FIRST_COMPLETED)
-                for future in done:
-                    second.pop(future)
-                    finished += 1
-                    yield ScanStep("forms", future.result(), finished, total)
+            yield from self._second_on(executor, limit)
         finally:
             executor.shutdown(wait=False, cancel_futures=True)
+
+    def _first_here_then_workers(self, context: BaseContext) -> Iterator[ScanStep]:
+        """First pass in this thread; second pass on workers started meanwhile."""
+        executor = ProcessPoolExecutor(self._workers, context, initializer=_quiet_worker)
+        # The workers start during the first pass. Starting the first one waits for a
+        # fork server to boot (seconds on a busy machine): a helper thread waits instead.
+        threading.Thread(target=_start, args=(executor, self._workers), daemon=True).start()
+        try:
+            yield from self._first_in_thread()
+            yield from self._second_on(executor, AHEAD_PER_WORKER * self._workers)
+        finally:
+            executor.shutdown(wait=False, cancel_futures=True)
+
+    def _first_in_thread(self) -> Iterator[ScanStep]:
+        """The first pass in this thread: read, reduce and score each column."""
+        total = len(self.columns)
+        scored: list[ColumnScan] = []
+        with one_blas_thread():
+            for name in self.columns:
+                reduced = self._reduce(name)
+                scored.append(self._keep(name, reduced, _first(name, reduced, self._settings)))
+                if len(scored) == total:
+                    self._order(scored)
+                yield ScanStep("score", scored[-1], len(scored), total)
+
+    def _second_on(self, executor: ProcessPoolExecutor, limit: int) -> Iterator[ScanStep]:
+        """The second pass on worker processes, on the counts the first pass kept."""
+        total = len(self.columns)
+        second: dict[Future[ColumnScan], str] = {}
+        finished = 0
+        while True:
+            while len(second) < limit:
+                name = self._next()
+                if name is None:
+                    break
+                reduced = self._reduced.pop(name)
+                if not _needs_forms(reduced, self._first_results[name]):
+                    finished += 1
+                    yield ScanStep("forms", self._first_results[name], finished, total)
+                    continue
+                second[executor.submit(_forms_given, name, reduced, self._settings)] = name
+            if not second:
+                break
+            done, _ = wait(second, return_when=FIRST_COMPLETED)
+            for future in done:
+                second.pop(future)
+                finished += 1
+                yield ScanStep("forms", future.result(), finished, total)
 
     def _reduce(self, name: str) -> ReducedColumn:
         if self._reduced_of is not None:
@@ -219,6 +253,18 @@ def _needs_forms(reduced: ReducedColumn, first: ColumnScan) -> bool:
         or counts.total_events == 0
         or counts.total_events == counts.rows
     )
+
+
+def _ready() -> None:
+    """Worker task that does nothing: submitted to start the workers early."""
+
+
+def _start(executor: ProcessPoolExecutor, workers: int) -> None:
+    try:
+        for _ in range(workers):
+            executor.submit(_ready)
+    except RuntimeError:  # the scan was closed first: nothing to start
+        pass
 
 
 def _first(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:

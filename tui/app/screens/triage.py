@@ -337,8 +337,10 @@ class TriageScreen(Screen[None]):
         self.redraw()
 
     def on_input_changed(self, event: Input.Changed) -> None:
-        self._filter = event.value.strip()
-        self.redraw()
+        text = event.value.strip()
+        if text != self._filter:  # clearing the box empties it: one redraw, not two
+            self._filter = text
+            self.redraw()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         if not event.value.strip():

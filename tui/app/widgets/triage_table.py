@@ -86,6 +86,10 @@ class TriageTable(KeyTable):
         order = sorted(cls.SPECS[1:], key=lambda s: -s.priority)
         return ", ".join(s.header for s in order)
 
+    def __init__(self, *, id: str | None = None) -> None:  # noqa: A002 (Textual's name)
+        super().__init__(id=id)
+        self._made: dict[str, tuple[ColumnScan, str, bool, Row]] = {}
+
     adjusted_shown = False
     """Some score of the session is adjusted: the adjustment fields are shown."""
 
@@ -105,4 +109,14 @@ class TriageTable(KeyTable):
         says the scan has ended; ``adjusted`` (some score of the review is adjusted) shows
         the adjustment fields, so filtering never moves the columns."""
         self.adjusted_shown = adjusted
-        self.show_rows([scan_row(s, words.get(s.column, UNDECIDED), final) for s in scans])
+        self.show_rows([self._row(s, words.get(s.column, UNDECIDED), final) for s in scans])
+
+    def _row(self, scan: ColumnScan, word: str, final: bool) -> Row:
+        """``scan_row``, kept while the column's result, decision and ``final`` are the
+        same (a sort or a filter redraws thousands of rows whose text has not changed)."""
+        kept = self._made.get(scan.column)
+        if kept is not None and kept[0] is scan and kept[1:3] == (word, final):
+            return kept[3]
+        row = scan_row(scan, word, final)
+        self._made[scan.column] = (scan, word, final, row)
+        return row

@@ -162,10 +162,14 @@ class SqlReduction:
         self, numeric: Sequence[SourceColumn], other: Sequence[SourceColumn]
     ) -> list[tuple[Any, ...]]:
         d = self.dialect
-        parts = []
-        for c in numeric:
-            f = self._finite(c)
-            x = d.as_double(d.quote(c.name), c)
+        # Each value is cast and tested once in the inner select; the aggregates read it.
+        inner, parts = [f"{self._y} AS y__"], []
+        for i, c in enumerate(numeric):
+            inner += [
+                f"{d.as_double(d.quote(c.name), c)} AS r{i}__",
+                f"{self._finite(c)} AS c{i}__",
+            ]
+            f, x = f"c{i}__", f"r{i}__"
             distinct = f"{d.approx_distinct}({f})" if d.approx_distinct else f"COUNT(DISTINCT {f})"
             parts += [
                 f"COUNT({f})",
@@ -176,15 +180,17 @@ class SqlReduction:
                 f"SUM(CASE WHEN {x} = {d.number(np.inf)} OR {x} = {d.number(-np.inf)} "
                 "THEN 1 ELSE 0 END)",
             ]
-        for c in other:
-            q = d.quote(c.name)
+        for j, c in enumerate(other):
+            inner.append(f"{d.quote(c.name)} AS o{j}__")
+            q = f"o{j}__"
             parts += [
                 f"COUNT({q})",
-                f"SUM(CASE WHEN {q} IS NOT NULL THEN {self._y} ELSE 0 END)",
+                f"SUM(CASE WHEN {q} IS NOT NULL THEN y__ ELSE 0 END)",
                 f"COUNT(DISTINCT {q})",
             ]
         row = self.run(
-            f"SELECT {', '.join(parts)} FROM {self.relation} AS s WHERE {self._outcome} IS NOT NULL"
+            f"SELECT {', '.join(parts)} FROM (SELECT {', '.join(inner)} FROM {self.relation} "
+            f"AS s WHERE {self._outcome} IS NOT NULL) AS p"
         )[0]
         out: list[tuple[Any, ...]] = [tuple(row[6 * i : 6 * i + 6]) for i in range(len(numeric))]
         start = 6 * len(numeric)

@@ -276,6 +276,20 @@ class SqlReduction:
     ) -> dict[int, tuple]:
         if not binned:
             return {}
+        step = self.dialect.binned_per_query or len(binned)
+        out: dict[int, tuple] = {}
+        for at in range(0, len(binned), step):
+            out.update(self._bin_chunk(base, binned[at : at + step], stats, plan, order))
+        return out
+
+    def _bin_chunk(
+        self,
+        base: str,
+        binned: list[int],
+        stats: list[list[Any]],
+        plan: BinPlan,
+        order: dict[int, tuple[np.ndarray, np.ndarray, float | None]],
+    ) -> dict[int, tuple]:
         d = self.dialect
         cut: dict[int, bins.Cuts] = {}
         keys, sums, selects = [], [], []

@@ -133,7 +133,9 @@ class SqlReduction:
             tables.update(self._exact_counts(base, few))
             exact = sorted(exact + few)
             binned = [i for i in binned if i not in set(few)]
-        tables.update(self._binned_counts(base, binned, stats, plan, order))
+        step = self.dialect.binned_per_query or max(1, len(binned))
+        for at in range(0, len(binned), step):
+            tables.update(self._binned_counts(base, binned[at : at + step], stats, plan, order))
         pushed = []
         for i, column in enumerate(numeric):
             n, distinct, low, high, fractional, infinite = stats[i]
@@ -267,22 +269,6 @@ class SqlReduction:
         return out
 
     def _binned_counts(
-        self,
-        base: str,
-        binned: list[int],
-        stats: list[list[Any]],
-        plan: BinPlan,
-        order: dict[int, tuple[np.ndarray, np.ndarray, float | None]],
-    ) -> dict[int, tuple]:
-        if not binned:
-            return {}
-        step = self.dialect.binned_per_query or len(binned)
-        out: dict[int, tuple] = {}
-        for at in range(0, len(binned), step):
-            out.update(self._bin_chunk(base, binned[at : at + step], stats, plan, order))
-        return out
-
-    def _bin_chunk(
         self,
         base: str,
         binned: list[int],

@@ -23,6 +23,14 @@ class Dialect:
     """The 64-bit float type."""
     exact_quantiles = True
     """The engine's quantiles are exact (otherwise approximate, documented by the source)."""
+    sorted_pass = False
+    """Binned columns' order statistics, grid, gap and distinct count come from one window
+    sort per column (``sorted_pass.py``) instead of quantile aggregates."""
+    binned_per_query: int | None = None
+    """Binned columns counted per query (None: all in one GROUPING SETS query)."""
+    approx_distinct: str | None = None
+    """An estimating distinct-count function: the profile then only guesses which columns
+    have few values, and the exact count comes from their counts or their sort."""
 
     def quote(self, name: str) -> str:
         """A quoted identifier."""

@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bins, lookups
+from tui.intake.sources import bins, lookups, sorted_pass
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -113,16 +113,29 @@ class SqlReduction:
         ]
         if not numeric:
             return [], listing
-        stats = profile[: len(numeric)]
-        exact = [
-            i
-            for i, (n, k, *_rest) in enumerate(stats)
-            if k <= plan.max_levels or n < plan.exact_below
-        ]
-        binned = [i for i in range(len(numeric)) if i not in set(exact)]
+        stats = [list(row) for row in profile[: len(numeric)]]
+        # With an estimated distinct count, columns up to twice the bound are counted per
+        # value first; their true count then decides, as the sort decides for the others.
+        bound = plan.max_levels * (2 if self.dialect.approx_distinct else 1)
+        exact = [i for i, (n, k, *_) in enumerate(stats) if k <= bound or n < plan.exact_below]
         base = self._base(numeric)
         tables = self._exact_counts(base, exact)
-        tables.update(self._binned_counts(base, binned, stats, plan))
+        binned = [i for i in range(len(numeric)) if i not in set(exact)]
+        if self.dialect.approx_distinct:
+            for i in exact:
+                stats[i][1] = tables[i][0].size
+            many = [i for i in exact if _binned_by(stats[i], plan)]
+            exact = [i for i in exact if i not in set(many)]
+            binned = sorted(binned + many)
+        order = self._order_stats(base, binned, stats, plan)
+        few = [i for i in binned if not _binned_by(stats[i], plan)]  # the estimate was off
+        if few:
+            tables.update(self._exact_counts(base, few))
+            exact = sorted(exact + few)
+            binned = [i for i in binned if i not in set(few)]
+        step = self.dialect.binned_per_query or max(1, len(binned))
+        for at in range(0, len(binned), step):
+            tables.update(self._binned_counts(base, binned[at : at + step], stats, plan, order))
         pushed = []
         for i, column in enumerate(numeric):
             n, distinct, low, high, fractional, infinite = stats[i]
@@ -151,28 +164,35 @@ class SqlReduction:
         self, numeric: Sequence[SourceColumn], other: Sequence[SourceColumn]
     ) -> list[tuple[Any, ...]]:
         d = self.dialect
-        parts = []
-        for c in numeric:
-            f = self._finite(c)
-            x = d.as_double(d.quote(c.name), c)
+        # Each value is cast and tested once in the inner select; the aggregates read it.
+        inner, parts = [f"{self._y} AS y__"], []
+        for i, c in enumerate(numeric):
+            inner += [
+                f"{d.as_double(d.quote(c.name), c)} AS r{i}__",
+                f"{self._finite(c)} AS c{i}__",
+            ]
+            f, x = f"c{i}__", f"r{i}__"
+            distinct = f"{d.approx_distinct}({f})" if d.approx_distinct else f"COUNT(DISTINCT {f})"
             parts += [
                 f"COUNT({f})",
-                f"COUNT(DISTINCT {f})",
+                distinct,
                 f"MIN({f})",
                 f"MAX({f})",
                 f"SUM(CASE WHEN {f} <> FLOOR({f}) THEN 1 ELSE 0 END)",
                 f"SUM(CASE WHEN {x} = {d.number(np.inf)} OR {x} = {d.number(-np.inf)} "
                 "THEN 1 ELSE 0 END)",
             ]
-        for c in other:
-            q = d.quote(c.name)
+        for j, c in enumerate(other):
+            inner.append(f"{d.quote(c.name)} AS o{j}__")
+            q = f"o{j}__"
             parts += [
                 f"COUNT({q})",
-                f"SUM(CASE WHEN {q} IS NOT NULL THEN {self._y} ELSE 0 END)",
+                f"SUM(CASE WHEN {q} IS NOT NULL THEN y__ ELSE 0 END)",
                 f"COUNT(DISTINCT {q})",
             ]
         row = self.run(
-            f"SELECT {', '.join(parts)} FROM {self.relation} AS s WHERE {self._outcome} IS NOT NULL"
+            f"SELECT {', '.join(parts)} FROM (SELECT {', '.join(inner)} FROM {self.relation} "
+            f"AS s WHERE {self._outcome} IS NOT NULL) AS p"
         )[0]
         out: list[tuple[Any, ...]] = [tuple(row[6 * i : 6 * i + 6]) for i in range(len(numeric))]
         start = 6 * len(numeric)
@@ -208,12 +228,21 @@ class SqlReduction:
                 out[i] = (x, t, e, None, None)
         return out
 
-    def _binned_counts(
-        self, base: str, binned: list[int], stats: list[tuple[Any, ...]], plan: BinPlan
-    ) -> dict[int, tuple]:
+    def _order_stats(
+        self, base: str, binned: list[int], stats: list[list[Any]], plan: BinPlan
+    ) -> dict[int, tuple[np.ndarray, np.ndarray, float | None]]:
+        """Per binned column: values at the bins' sorted positions, the quantile grid and
+        the smallest gap; with a sorted pass, also its true distinct count (into stats)."""
         if not binned:
             return {}
         d = self.dialect
+        out: dict[int, tuple[np.ndarray, np.ndarray, float | None]] = {}
+        if d.sorted_pass:
+            for i in binned:
+                got = sorted_pass.sorted_stats(self.run, base, f"c{i}__", int(stats[i][0]), plan)
+                stats[i][1] = got.distinct
+                out[i] = (got.order, got.grid, got.gap)
+            return out
         grid_probs = np.linspace(0.0, 1.0, plan.grid)
         parts = []
         for i in binned:
@@ -230,11 +259,29 @@ class SqlReduction:
                 for i in binned
             )
         )[0]
+        for slot, i in enumerate(binned):
+            gap = gaps[slot]
+            out[i] = (
+                np.asarray(answer[2 * slot], dtype=float),
+                np.asarray(answer[2 * slot + 1], dtype=float),
+                None if gap is None else float(gap),
+            )
+        return out
+
+    def _binned_counts(
+        self,
+        base: str,
+        binned: list[int],
+        stats: list[list[Any]],
+        plan: BinPlan,
+        order: dict[int, tuple[np.ndarray, np.ndarray, float | None]],
+    ) -> dict[int, tuple]:
+        d = self.dialect
         cut: dict[int, bins.Cuts] = {}
         keys, sums, selects = [], [], []
-        for slot, i in enumerate(binned):
+        for i in binned:
             n, _, low, high, *_ = stats[i]
-            cut[i] = bins.cuts(int(n), plan, answer[2 * slot], float(low), float(high))
+            cut[i] = bins.cuts(int(n), plan, order[i][0], float(low), float(high))
             c = f"c{i}__"
             lo, hi = d.number(cut[i].low_tail), d.number(cut[i].high_tail)
             tail = f"{c} < {lo} OR {c} >= {hi}"
@@ -265,13 +312,17 @@ class SqlReduction:
                 found[i].append((x, n, e))
                 break
         out = {}
-        for slot, i in enumerate(binned):
+        for i in binned:
             triples = sorted(found[i])
             x, t, e = (np.array(v, dtype=float) for v in zip(*triples, strict=True))
-            grid = np.asarray(answer[2 * slot + 1], dtype=float)
-            gap = gaps[slot]
-            out[i] = (x, t, e, None if gap is None else float(gap), grid)
+            out[i] = (x, t, e, order[i][2], order[i][1])
         return out
+
+
+def _binned_by(stats: Sequence[Any], plan: BinPlan) -> bool:
+    """A file scan bins a column with more values than the bound and enough rows."""
+    n, distinct = int(stats[0]), int(stats[1])
+    return distinct > plan.max_levels and n >= plan.exact_below
 
 
 class ReducedInEngine:

@@ -142,9 +142,11 @@ async def _keys_round(pilot, keys: Keys, phase: str, downs: int = 8) -> str | No
     column = table.highlighted_key()
 
     def forms_shown() -> bool:
-        return (
-            isinstance(app.screen, InspectScreen) and app.screen.query_one(FormsTable).row_count > 0
-        )
+        screen = app.screen
+        if not isinstance(screen, InspectScreen):
+            return False
+        forms = screen.query(FormsTable)  # empty while the screen is still being composed
+        return bool(forms) and forms.first().row_count > 0
 
     await keys.press(pilot, phase, "enter", forms_shown)
     await keys.press(pilot, phase, "escape", lambda: isinstance(app.screen, TriageScreen))

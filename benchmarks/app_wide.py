@@ -179,6 +179,8 @@ async def _drive(path: Path) -> None:
                 )
                 await pilot.pause(0.2)
             marks["first pass"] = time.perf_counter() - start
+            gate = getattr(app, "keys", None)  # keys first (absent in older checkouts)
+            aside = None if gate is None else gate.waited
             forms_then = sum(1 for s in session.ranked if s.forms_fitted)
             # Open a column the second pass has not reached: the lowest-ranked scored one.
             waiting = [s.column for s in session.ranked if s.score is not None]
@@ -202,6 +204,8 @@ async def _drive(path: Path) -> None:
     print(f"1. open the data {opened:.2f} s; from the start of `review` to:")
     print(f"   first rows listed {marks['first rows']:.2f} s ({rows_then} rows then)")
     print(f"   end of first pass {marks['first pass']:.2f} s ({forms_then} best forms in then)")
+    if aside is not None:
+        print(f"   (in the first pass the scan thread stood aside {aside:.2f} s for keys)")
     print(f"   end of second pass {marks['second pass']:.2f} s")
     keys.print()
     if not during:

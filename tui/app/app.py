@@ -12,13 +12,14 @@ from __future__ import annotations
 
 from multiprocessing import resource_tracker
 
-from textual import on, work
+from textual import events, on, work
 from textual.app import App
 from textual.binding import Binding
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.commands import ReviewCommands
 from tui.app.fit_cache import FitCache
+from tui.app.key_gate import KeyGate
 from tui.app.messages import (
     ColumnOpened,
     ColumnRescored,
@@ -115,6 +116,15 @@ class ReviewApp(App[None]):
         self._run = 0  # messages of an older (stopped) scan are ignored
         self._open = False  # a scan started and its last message is not handled yet
         self._model_done = self._model_total = 0
+        self.keys = KeyGate()
+        """Keys first: the first scan stands aside while a key is answered."""
+
+    async def on_event(self, event: events.Event) -> None:
+        if isinstance(event, events.Key):
+            self.keys.pressed()
+            # Two refreshes on: the app forwards the key, the focused widget handles it.
+            self.call_after_refresh(self.call_after_refresh, self.keys.answered)
+        await super().on_event(event)
 
     def on_mount(self) -> None:
         self.push_screen(self.triage)
@@ -153,6 +163,7 @@ class ReviewApp(App[None]):
             for step in stream:
                 if worker.is_cancelled:
                     return
+                self.keys.stand_aside(lambda: worker.is_cancelled)
                 tally.add(step)
                 if step.stage == "score" and tally.scored and not tally.forms_complete:
                     self.post_message(ScoresDone(tally.ranked(), step.total, run))

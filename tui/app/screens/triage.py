@@ -34,6 +34,8 @@ REFRESH_SECONDS = 0.2
 REDRAW_SHARE = 0.25
 """...and at most this share of the time: a list of thousands of columns takes a while to
 redraw, and keys must still answer while the second pass fills it in."""
+HOLD_SECONDS = 2.0
+"""While keys are typed, the timed redraw waits for a pause in them, at most this long."""
 
 
 def arrange(
@@ -98,6 +100,7 @@ class TriageScreen(Screen[None]):
         self.hide_decided = False
         self._filter = ""
         self._redraw_timer: Timer | None = None
+        self._redraw_due = 0.0  # when the timed redraw was meant to run
         self._scan_text = "starting the scan…"
         self._rescoring = False  # a working-model re-score is under way
         self._follow_top = True  # while the scan runs, until a key moves the cursor
@@ -191,9 +194,17 @@ class TriageScreen(Screen[None]):
             self.redraw()  # the first pass is over: q-values and the final order now
         elif self._redraw_timer is None:
             wait = max(REFRESH_SECONDS, self._redraw_cost / REDRAW_SHARE)
+            self._redraw_due = time.monotonic() + wait
             self._redraw_timer = self.set_timer(wait, self._timed_redraw)
 
     def _timed_redraw(self) -> None:
+        # A redraw of thousands of rows would make the key just typed wait: while keys
+        # come, the list waits for a pause (at most HOLD_SECONDS past its time).
+        typing = getattr(self.app, "keys", None)
+        late = time.monotonic() - self._redraw_due
+        if typing is not None and typing.typing() and late < HOLD_SECONDS:
+            self._redraw_timer = self.set_timer(REFRESH_SECONDS, self._timed_redraw)
+            return
         self._redraw_timer = None
         self.redraw()
 

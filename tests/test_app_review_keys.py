@@ -73,6 +73,8 @@ def test_z_undoes_decisions_one_by_one_and_saves_each_time(folder: Path) -> None
             assert isinstance(app.screen, RecordedView)
             title = text_of(app.screen, "#title")
             assert title == "recorded: route_km quadratic, z undoes"
+            assert text_of(app.screen, "#heading").startswith("First 8 rows, recoded")
+            assert app.screen.preview.columns[0].header == "row"
             await pilot.press("escape", "l")  # keep route_km linear instead
             await settle(pilot)
             await pilot.press("escape", "right_square_bracket")

@@ -101,7 +101,14 @@ def test_check_names_a_column_the_source_lacks(database, fill_log, capsys):
     query = "SELECT wound_infection_30d, bmi FROM fresh"
     assert main(["check", str(fill_log), str(database), "--query", query]) == 2
     err = capsys.readouterr().err
-    assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l" in err
+    assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l;" in err
+
+
+def test_check_names_the_closest_column_of_the_source(database, fill_log, capsys):
+    query = "SELECT wound_infection_30d, bmi, crp_mg_l AS crp_mg_per_l FROM fresh"
+    assert main(["check", str(fill_log), str(database), "--query", query]) == 2
+    err = capsys.readouterr().err
+    assert "recodes: crp_mg_l (closest: crp_mg_per_l), height_cm, sodium_mmol_l;" in err
 
 
 def test_report_equals_the_file_but_for_the_data_lines(database, tmp_path):

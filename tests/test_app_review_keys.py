@@ -73,6 +73,8 @@ def test_z_undoes_decisions_one_by_one_and_saves_each_time(folder: Path) -> None
             assert isinstance(app.screen, RecordedView)
             title = text_of(app.screen, "#title")
             assert title == "recorded: route_km quadratic, z undoes"
+            assert text_of(app.screen, "#heading").startswith("First 8 rows, recoded")
+            assert app.screen.preview.columns[0].header == "row"
             await pilot.press("escape", "l")  # keep route_km linear instead
             await settle(pilot)
             await pilot.press("escape", "right_square_bracket")
@@ -93,9 +95,8 @@ def test_z_undoes_decisions_one_by_one_and_saves_each_time(folder: Path) -> None
             await pilot.press("z")  # back to quadratic
             await settle(pilot)
             assert session.decision_word("route_km") == "quadratic"
-            assert "1 of 7 decided: 1 recoded · 0 kept linear · 0 set aside" in text_of(
-                app.screen, "#summary"
-            )
+            # At 80 columns the summary names only the counts that are not zero.
+            assert text_of(app.screen, "#summary").startswith("1 of 7 decided: 1 recoded · scores")
             await pilot.press("L", "z")  # and on the log screen
             await settle(pilot)
             assert isinstance(app.screen, DecisionsScreen)
@@ -300,3 +301,35 @@ def test_keys_typed_before_a_column_is_shown_do_not_decide(folder: Path) -> None
             assert session.log.set_aside[0].column == "stops"
 
     asyncio.run(go())
+
+
+@pytest.mark.parametrize("width", [80, 160])
+def test_the_summary_line_keeps_the_sort_and_filter_in_view(folder: Path, width: int) -> None:
+    # The counts in full at 80 columns pushed the sort order and the filter off the line.
+    session = session_in(folder)
+    seen: list[str] = []
+
+    async def go() -> None:
+        app = ReviewApp(session, quick_scanner)
+        async with app.run_test(size=(width, 24)) as pilot:
+            await settle(pilot)
+            screen = await open_column(pilot, "route_km")
+            screen.query_one(FormsTable).move_to_key("quadratic")
+            await pilot.press("a")
+            await settle(pilot)
+            await pilot.press("escape", "escape", "s", "slash", "r", "o", "enter")
+            await settle(pilot)
+            line = app.screen.query_one("#summary", Line)
+            seen.append(str(line.render()))
+            seen.append(str(line.content_size.width))
+
+    asyncio.run(go())
+    text, room = seen[0], int(seen[1])
+    # The sort and the filter are on screen (later hints may still be cut with "…").
+    shown = text.index("names containing 'ro'") + len("names containing 'ro'")
+    assert shown <= room, text
+    assert "sorted by name" in text
+    if width == 80:
+        assert text.startswith("1 of 7 decided: 1 recoded · scores")
+    else:
+        assert text.startswith("1 of 7 decided: 1 recoded · 0 kept linear · 0 set aside · scores")

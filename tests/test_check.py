@@ -157,7 +157,24 @@ def test_a_column_the_extract_lacks_is_named(tmp_path, capsys):
     lacking = tmp_path / "lacking.csv"
     frame.to_csv(lacking, index=False)
     assert main(["check", str(path), str(lacking)]) == 2
-    assert "lacks column(s) the log recodes: bmi" in capsys.readouterr().err
+    assert "lacks column(s) the log recodes: bmi;" in capsys.readouterr().err
+
+
+def test_a_renamed_column_is_named_beside_the_one_the_extract_lacks(tmp_path, capsys):
+    # The fresh sample extract calls albumin serum_albumin_g_l (see sample_data/README.md).
+    log = learned_log({"albumin_g_l": "log"})
+    path = tmp_path / "log.json"
+    recodings.save(log, path)
+    assert main(["check", str(path), str(FRESH)]) == 2
+    err = capsys.readouterr().err
+    assert "lacks column(s) the log recodes: albumin_g_l (closest: serum_albumin_g_l);" in err
+    assert "--rename OLD=NEW" in err and err.count("\n") == 1
+    assert (
+        main(["report", str(path), "--data", str(FRESH), "--output", str(tmp_path / "r.md")]) == 2
+    )
+    err = capsys.readouterr().err
+    assert "lacks column(s) the log recodes: albumin_g_l (closest: serum_albumin_g_l)" in err
+    assert not (tmp_path / "r.md").exists()
 
 
 def test_a_filled_recoding_is_checked_on_every_row_with_its_indicator():

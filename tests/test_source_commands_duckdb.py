@@ -101,7 +101,14 @@ def test_check_names_a_column_the_source_lacks(database, fill_log, capsys):
     query = "SELECT wound_infection_30d, bmi FROM fresh"
     assert main(["check", str(fill_log), str(database), "--query", query]) == 2
     err = capsys.readouterr().err
-    assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l" in err
+    assert "lacks column(s) the log recodes: crp_mg_l, height_cm, sodium_mmol_l;" in err
+
+
+def test_check_names_the_closest_column_of_the_source(database, fill_log, capsys):
+    query = "SELECT wound_infection_30d, bmi, crp_mg_l AS crp_mg_per_l FROM fresh"
+    assert main(["check", str(fill_log), str(database), "--query", query]) == 2
+    err = capsys.readouterr().err
+    assert "recodes: crp_mg_l (closest: crp_mg_per_l), height_cm, sodium_mmol_l;" in err
 
 
 def test_report_equals_the_file_but_for_the_data_lines(database, tmp_path):
@@ -310,3 +317,58 @@ def test_no_command_writes_over_the_database_it_reads(database, tmp_path, monkey
         assert err.count("\n") == 1 and "Traceback" not in err
         assert str(database) in err and ("data file" in err or "overwrite" in err)
     assert database.read_bytes() == before
+
+
+def test_the_decision_preview_of_engine_counts_is_not_called_rows(database, tmp_path):
+    # A source's rows never leave the engine: the preview shows values of its counts, and
+    # says so, where a file's review shows its first rows.
+    import asyncio
+
+    from app_fleet import settle
+
+    from tui.app.app import ReviewApp
+    from tui.app.screens.inspect import InspectScreen
+    from tui.app.screens.recorded_view import RecordedView
+    from tui.app.source_session import open_source_session
+    from tui.app.widgets.line import Line
+    from tui.app.widgets.triage_table import TriageTable
+    from tui.engine.reduced_data import reduce_data
+    from tui.intake.sources import open_source
+
+    source = open_source(str(database), "cohort")
+    try:
+        data = reduce_data(source, OUTCOME, None)
+    finally:
+        source.close()
+    session = open_source_session(data, data.source_info(), tmp_path / "s.recodings.json")
+    assert not session.preview_from_rows
+    seen: dict[str, object] = {}
+
+    async def go() -> None:
+        app = ReviewApp(session)
+        async with app.run_test(size=(80, 24)) as pilot:
+            for _ in range(600):
+                await pilot.pause(0.05)
+                if session.scan_finished:
+                    break
+            await settle(pilot)
+            pilot.app.screen.query_one(TriageTable).move_to_key("bmi")
+            await pilot.press("enter")
+            await settle(pilot)
+            assert isinstance(pilot.app.screen, InspectScreen)
+            await pilot.press("l")
+            await settle(pilot)
+            view = pilot.app.screen
+            assert isinstance(view, RecordedView)
+            seen["heading"] = str(view.query_one("#heading", Line).render())
+            seen["first"] = view.preview.columns[0].header
+            seen["values"] = list(view.preview.columns[1].cells)
+
+    asyncio.run(go())
+    session.book.close()
+    assert seen["heading"].startswith("First 8 values of the engine's counts")
+    assert "rows" not in seen["heading"].split("(")[0]
+    assert seen["first"] == "#"
+    # The values shown are the counts' first (smallest) values, in order.
+    shown = [float(v) for v in seen["values"]]
+    assert shown == sorted(shown) and shown[0] == pd.read_csv(COHORT)["bmi"].min()

@@ -15,6 +15,17 @@ def closest_names(name: str, choices: Iterable[str], limit: int = 3) -> list[str
     return [by_lower[key] for key in found]
 
 
+def with_closest(names: Iterable[str], choices: Iterable[str]) -> str:
+    """``names`` joined for a message, each followed by the closest of ``choices`` when one
+    looks like it: a renamed column is then named where it is missed."""
+    present = list(choices)
+    parts = []
+    for name in names:
+        near = closest_names(name, present, limit=1)
+        parts.append(f"{name} (closest: {near[0]})" if near else name)
+    return ", ".join(parts)
+
+
 SHOWN_CHARS = 60
 """Longest name a message repeats in full; longer ones are cut (a name can be any length)."""
 

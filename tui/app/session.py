@@ -313,6 +313,12 @@ class ReviewSession:
         return self.dataset.values(column)
 
     @property
+    def preview_from_rows(self) -> bool:
+        """Whether ``preview_values`` are the first rows (a file) or values of a source's
+        counts."""
+        return not isinstance(self.dataset, ReducedData)
+
+    @property
     def data_name(self) -> str:
         """The data file's name, or the source's label (no secret in it)."""
         if isinstance(self.dataset, ReducedData):

@@ -13,6 +13,7 @@ from tui.cli.report_cmd import event_option
 from tui.cli.source_options import add_source_options, opened_source
 from tui.intake.dataset import open_dataset
 from tui.intake.sources import local_path
+from tui.names import with_closest
 from tui.paths import same_file
 from tui.problems import InputProblem
 from tui.recodings.check import ColumnCheck, check_log
@@ -68,8 +69,8 @@ def run(args: argparse.Namespace) -> int:
     lacking = [c for c in wanted if c not in data.column_names]
     if lacking:
         raise InputProblem(
-            f"{data.path.name} lacks column(s) the log recodes: {', '.join(lacking)} "
-            "(a renamed column: --rename OLD=NEW)"
+            f"{data.path.name} lacks column(s) the log recodes: "
+            f"{with_closest(lacking, data.column_names)}; a renamed column: --rename OLD=NEW"
         )
     not_numeric = [c for c in wanted if c not in numeric]
     if not_numeric:

@@ -8,6 +8,7 @@ from collections.abc import Mapping
 from tui.engine.reduced_data import reduce_data
 from tui.engine.scan import ScanSettings
 from tui.intake.sources import Source
+from tui.names import with_closest
 from tui.problems import InputProblem
 from tui.recodings.check import ColumnCheck
 from tui.recodings.check_counts import check_log_counts
@@ -26,8 +27,8 @@ def check_source(log: RecodingLog, source: Source, renames: Mapping[str, str]) -
         lacking = [c for c in wanted if c not in names]
         if lacking:
             raise InputProblem(
-                f"{source.label} lacks column(s) the log recodes: {', '.join(lacking)} "
-                "(a renamed column: --rename OLD=NEW)"
+                f"{source.label} lacks column(s) the log recodes: "
+                f"{with_closest(lacking, names)}; a renamed column: --rename OLD=NEW"
             )
         asides = [renames.get(a.column, a.column) for a in log.set_aside]
         chosen = list(dict.fromkeys(wanted + [a for a in asides if a in names]))

@@ -62,6 +62,16 @@ class DecidedCounts:
             f"{self.set_aside} {SET_ASIDE}"
         )
 
+    def short_words(self) -> str:
+        """Only the counts that are not zero, ``2 recoded · 1 set aside`` (``""`` for none):
+        for a line with little room."""
+        named = (
+            (self.recoded, RECODED),
+            (self.kept_linear, KEPT_LINEAR),
+            (self.set_aside, SET_ASIDE),
+        )
+        return " · ".join(f"{n} {word}" for n, word in named if n)
+
 
 def is_kept_linear(recoding: Recoding) -> bool:
     """A plain linear term (a clipped or filled linear term is a recoding)."""

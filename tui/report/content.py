@@ -25,6 +25,7 @@ from tui.engine.smoother import smoothed_log_odds
 from tui.engine.stability import DEFAULT_RESAMPLES, DEFAULT_SEED, METHOD, selection_shares
 from tui.intake.dataset import ColumnarDataset, Dataset, file_sha256
 from tui.intake.weights import FREQUENCY, SURVEY
+from tui.names import with_closest
 from tui.problems import InputProblem
 from tui.recodings.decisions import decided_counts
 from tui.recodings.evidence import Evidence
@@ -291,7 +292,8 @@ def build_report(
     missing = [c for c in needed if c not in data.column_names]
     if missing:
         raise InputProblem(
-            f"{data_name(data, origin)} lacks column(s) the log recodes: {', '.join(missing)}"
+            f"{data_name(data, origin)} lacks column(s) the log recodes: "
+            f"{with_closest(missing, data.column_names)}"
         )
     not_numeric = [c for c in needed if c not in data.columns]
     if not_numeric:

@@ -48,8 +48,8 @@ def _decision(d: DecisionSection, outcome: str) -> str:
     classes = ["accepted" if f.accepted else "" for f in d.forms]
     header = ["form", "df", "deviance", "AIC", "ΔAIC", "LR p vs linear", "fit status", "notes"]
     parts.append(
-        f"<p>Fit status is ok, separation, not-converged or failed; the accepted form is "
-        f"marked. {escape(DF_RULE)} {escape(LR_DASH)}."
+        f"<p>Each form's fit status is one of ok, separation, not-converged or failed; the "
+        f"accepted form is marked. {escape(DF_RULE)} {escape(LR_DASH)}."
         + (f" {escape(d.lr_note)}." if d.lr_note else "")
         + "</p>"
     )

@@ -26,8 +26,9 @@ def _decision(d: DecisionSection) -> list[str]:
     shown = evidence_words(d.evidence)
     if shown:
         out += [f"Evidence recorded at decision time: {shown}.", ""]
-    out += [f"Candidate forms on this data (fit status is ok, separation, not-converged or "
-            f"failed; the accepted form in bold). {DF_RULE} {LR_DASH}.{_note(d.lr_note)}",
+    out += [f"Candidate forms on this data (each form's fit status is one of ok, separation, "
+            f"not-converged or failed; the accepted form in bold). {DF_RULE} {LR_DASH}."
+            f"{_note(d.lr_note)}",
             ""]  # fmt: skip
     rows = [
         [

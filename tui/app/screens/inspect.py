@@ -345,7 +345,8 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self._after_change()
         x = self.session.preview_values(self.column)  # as replay reads it
         name = path_text(str(self.session.log_path), os.getcwd())
-        self.app.push_screen(RecordedView(decision, x, name))
+        rows = self.session.preview_from_rows
+        self.app.push_screen(RecordedView(decision, x, name, rows))
 
     def action_set_aside(self) -> None:
         """Record that this column is not to be used."""

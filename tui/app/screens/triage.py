@@ -106,6 +106,8 @@ class TriageScreen(Screen[None]):
         self._follow_top = True  # while the scan runs, until a key moves the cursor
         self._opening_filter = False
         self._redraw_cost = 0.0  # seconds the last redraw took
+        self._decided_words = ("", "")  # the summary's counts: in full, and non-zero only
+        self._summary_tail: list[str] = []
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -132,6 +134,7 @@ class TriageScreen(Screen[None]):
         self.query_one("#filter").display = False
         self.query_one(TriageTable).focus()
         self.redraw()
+        self.call_after_refresh(self._show_summary)  # the line's width is known from now
 
     def on_screen_resume(self) -> None:
         self.redraw()
@@ -225,10 +228,15 @@ class TriageScreen(Screen[None]):
         if self._follow_top:
             table.move_to_key(None)
         counts = s.counts()
-        decided = f"{counts.decided} of {len(s.columns)} decided: {counts.words()}"
+        decided = f"{counts.decided} of {len(s.columns)} decided"
+        short = counts.short_words()
+        self._decided_words = (
+            f"{decided}: {counts.words()}",
+            f"{decided}: {short}" if short else decided,
+        )
         # Which statistic the scores are (engine words): survey weights score by robust Wald.
         scores = f"scores {statistics_word(r.statistic for r in s.ranked)}"
-        parts = [decided, scores, f"sorted by {self.sort}"]
+        parts = [scores, f"sorted by {self.sort}"]
         if self._filter:
             parts.append(f"names containing '{self._filter}'")
         if self.hide_decided:
@@ -240,9 +248,24 @@ class TriageScreen(Screen[None]):
             parts.append(hint)
         if s.weight:
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
-        self.query_one("#summary", Line).update(" · ".join(parts))
+        self._summary_tail = parts
+        self._show_summary()
         self._describe_highlighted()
         self._redraw_cost = time.perf_counter() - started
+
+    def _show_summary(self) -> None:
+        """The summary line. Wider than the screen (80 columns), the decision counts shrink
+        to those that are not zero, so the sort, the filter and the key hints stay in view."""
+        line = self.query_one("#summary", Line)
+        full, short = self._decided_words
+        text = " · ".join([full, *self._summary_tail])
+        room = line.content_size.width
+        if 0 < room < len(text):
+            text = " · ".join([short, *self._summary_tail])
+        line.update(text)
+
+    def on_resize(self, event: events.Resize) -> None:
+        self.call_after_refresh(self._show_summary)
 
     def _model_hint(self) -> str:
         """The working-model keys, named when they would do something."""

@@ -198,3 +198,35 @@ def test_a_second_session_of_this_process_takes_the_lock_without_a_notice(tmp_pa
     assert lock_path(log).exists()
     second.release()
     assert not lock_path(log).exists()
+
+
+@pytest.mark.parametrize("signame", ["SIGHUP", "SIGTERM"])
+def test_a_review_whose_terminal_hangs_up_leaves_no_lock(folder, signame):
+    # A dropped SSH connection sends SIGHUP; its default action would end the review at
+    # once with the lock left behind. The review runs for real here, in a pseudo-terminal.
+    import pty
+    import signal
+    import time
+
+    leader, follower = pty.openpty()
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    args = [sys.executable, "-m", "tui", "review", "fleet.csv", "--outcome", OUTCOME]
+    child = subprocess.Popen(
+        [*args, "--log", LOG], stdin=follower, stdout=follower, stderr=follower, env=env
+    )
+    os.close(follower)
+    try:
+        lock = lock_path(folder / LOG)
+        deadline = time.monotonic() + 60
+        while not lock.exists() and child.poll() is None and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert lock.exists(), "the review never took the lock"
+        assert read_holder(lock).pid == child.pid
+        child.send_signal(getattr(signal, signame))
+        assert child.wait(timeout=30) == 128 + getattr(signal, signame)
+        assert not lock.exists()
+    finally:
+        if child.poll() is None:
+            child.kill()
+            child.wait()
+        os.close(leader)

@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.source_options import add_source_options, fetched, reduced
 from tui.engine.scan import ScanSettings
+from tui.recodings.lock import release_on_hangup
 
 if TYPE_CHECKING:
     from tui.app.session import ReviewSession
@@ -54,10 +55,12 @@ def run(args: argparse.Namespace) -> int:
 
     settings = ScanSettings(groups=args.groups, knots=args.knots)
     session = _source_session(args, settings) or _file_session(args, settings)
+    restore = release_on_hangup(session.book.close)  # a dropped connection leaves no lock
     try:
         ReviewApp(session).run()
     finally:
         session.book.close()  # the lock goes; every decision is already saved
+        restore()
     return 0
 
 

@@ -16,7 +16,10 @@ import getpass
 import json
 import os
 import secrets
+import signal
 import socket
+import threading
+from collections.abc import Callable
 from dataclasses import asdict, dataclass
 from pathlib import Path
 
@@ -202,3 +205,31 @@ def _remove_if_still(path: Path, found: Holder | None) -> None:
             pass
         except OSError as error:
             raise InputProblem(f"cannot take over {path}: {error.strerror or error}") from None
+
+
+HANGUP_SIGNALS = ("SIGHUP", "SIGTERM")
+"""A dropped SSH connection sends SIGHUP, a system shutdown or ``kill`` SIGTERM."""
+
+
+def release_on_hangup(release: Callable[[], None]) -> Callable[[], None]:
+    """Call ``release`` (drop the log's lock) and end the process when the terminal hangs
+    up or the process is told to stop: their default action would end it at once and
+    leave the lock behind. Every decision is saved before it counts, so nothing is lost;
+    an interrupted save leaves the old log whole (atomic write). Returns the call that puts
+    the earlier handlers back; outside the main thread nothing is changed."""
+
+    def ended(signum: int, _frame: object) -> None:
+        with contextlib.suppress(Exception):
+            release()
+        os._exit(128 + signum)  # the terminal is gone: no screen to restore
+
+    if threading.current_thread() is not threading.main_thread():
+        return lambda: None
+    signums = [getattr(signal, n) for n in HANGUP_SIGNALS if hasattr(signal, n)]
+    before = {signum: signal.signal(signum, ended) for signum in signums}
+
+    def restore() -> None:
+        for signum, handler in before.items():
+            signal.signal(signum, handler)
+
+    return restore

@@ -172,10 +172,13 @@ def postgres_run(parquet: Path, out: Path, env: dict[str, str], timeout: float) 
         with server.connect(DATABASE) as con:
             con.execute(sql.SQL("CREATE TABLE {} ({})").format(sql.Identifier(TABLE), columns))
             copy_sql = sql.SQL("COPY {} FROM STDIN (FORMAT csv, HEADER true)")
-            with con.cursor() as cur, cur.copy(copy_sql.format(sql.Identifier(TABLE))) as copy:
-                with csv.open("rb") as handle:
-                    while chunk := handle.read(1 << 20):
-                        copy.write(chunk)
+            with (
+                con.cursor() as cur,
+                cur.copy(copy_sql.format(sql.Identifier(TABLE))) as copy,
+                csv.open("rb") as handle,
+            ):
+                while chunk := handle.read(1 << 20):
+                    copy.write(chunk)
             copied = time.perf_counter() - began
             con.execute(sql.SQL("ANALYZE {}").format(sql.Identifier(TABLE)))
             analysed = time.perf_counter() - began - copied

@@ -243,7 +243,7 @@ def main() -> None:
             command = _scan_command(f"spark:{parquet}", "--spark-master", args.spark_master)
             try:
                 timings["spark"] = timed_scan(command, spark_out, env, args.timeout)
-            except Stalled as stall:
+            except (Stalled, RuntimeError) as stall:  # keep the figures already printed
                 print(f"   bendwise scan spark:...: {stall}; {_load()}")
             else:
                 print(f"   bendwise scan spark:...: {timings['spark']:.1f} s; {_load()}")

@@ -20,8 +20,10 @@ REPO = Path(__file__).resolve().parent.parent
 if str(REPO) not in sys.path:  # run as a script from anywhere
     sys.path.insert(0, str(REPO))
 
+import duckdb  # noqa: E402
 import numpy as np  # noqa: E402
 
+from benchmarks.results import recorded  # noqa: E402
 from tui.engine.pushed import bin_plan  # noqa: E402
 from tui.intake.sources import bin_join, bins, sorted_pass  # noqa: E402
 from tui.intake.sources.duckdb_source import open_file_through_duckdb  # noqa: E402
@@ -49,32 +51,21 @@ def invented_column(folder: Path, rows: int) -> Path:
     return path
 
 
-def main(argv: list[str] | None = None) -> int:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--file", help="a Parquet file (default: an invented column)")
-    parser.add_argument("--column", default="x")
-    parser.add_argument("--outcome", default="y")
-    parser.add_argument("--rows", type=int, default=10_000_000)
-    parser.add_argument("--data", default="/tmp/bendwise-bench-bins")
-    parser.add_argument("--repeat", type=int, default=1)
-    parser.add_argument("--only", choices=["tree", "asof"], action="append")
-    args = parser.parse_args(argv)
-    path = Path(args.file) if args.file else invented_column(Path(args.data), args.rows)
+def compare(path: Path, name: str, outcome: str, ways: list[str], repeat: int) -> bool:
+    """Time each way of counting one column's bins; True when their answers agree."""
     source = open_file_through_duckdb(str(path))
     try:
         red = source._reduction
-        red.code(args.outcome, None)
-        column = red.columns[args.column]
+        red.code(outcome, None)
+        column = red.columns[name]
         base, plan = red._base([column]), bin_plan()
         n, _, low, high, *_ = red._profile([column], [])[0]
         start = time.perf_counter()
         got = sorted_pass.sorted_stats(red.run, base, "c0__", int(n), plan)
         cut = bins.cuts(int(n), plan, got.order, float(low), float(high))
-        print(
-            f"{path.name} column {args.column}: {int(n):,} finite rows, {cut.edges.size} bin "
-            f"starts; sorted pass {time.perf_counter() - start:.2f} s; {_load()}",
-            flush=True,
-        )
+        took = time.perf_counter() - start
+        print(f"{path.name} column {name}: {int(n):,} finite rows, {cut.edges.size} bin "
+              f"starts; sorted pass {took:.2f} s; {_load()}", flush=True)  # fmt: skip
         statements = {
             "tree": red._bucket_query(base, [0], {0: cut}),
             "asof": bin_join.bin_counts_query(
@@ -82,19 +73,40 @@ def main(argv: list[str] | None = None) -> int:
             ),
         }
         answers = {}
-        for _ in range(args.repeat):
-            for name in args.only or ["tree", "asof"]:
+        for _ in range(repeat):
+            for way in ways:
                 start = time.perf_counter()
-                rows = red.run(statements[name])
+                rows = red.run(statements[way])
                 took = time.perf_counter() - start
-                print(f"  {name:5s} {took:7.2f} s, {len(rows)} rows; {_load()}", flush=True)
-                answers[name] = sorted(tuple(r[:4]) for r in rows if r[0] is not None)
+                print(f"  {way:5s} {took:7.2f} s, {len(rows)} rows; {_load()}", flush=True)
+                answers[way] = sorted(tuple(r[:4]) for r in rows if r[0] is not None)
     finally:
         source.close()
-    if len(answers) == 2:
-        same = answers["tree"] == answers["asof"]
-        print(f"  same rows, events per bin: {'yes' if same else 'NO'}")
-        return 0 if same else 1
+    if len(answers) < 2:
+        return True
+    same = answers["tree"] == answers["asof"]
+    print(f"  same rows and events per bin: {'yes' if same else 'NO'}")
+    return same
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--file", type=Path, help="a Parquet file (default: invented)")
+    parser.add_argument("--column", action="append", help="column(s) to bin (default x)")
+    parser.add_argument("--outcome", default="y")
+    parser.add_argument("--rows", type=int, default=10_000_000)
+    parser.add_argument("--data", type=Path, default=Path("/tmp/bendwise-bench-bins"))
+    parser.add_argument("--repeat", type=int, default=1)
+    parser.add_argument("--only", choices=["tree", "asof"], help="one way of counting")
+    parser.add_argument("--results", type=Path, help="results file (default in results/)")
+    args = parser.parse_args(argv)
+    path = args.file or invented_column(args.data, args.rows)
+    ways = [args.only] if args.only else ["tree", "asof"]
+    with recorded("duckdb_bins", args.results):
+        print(f"DuckDB {duckdb.__version__}; {_load()}")
+        for name in args.column or ["x"]:
+            if not compare(path, name, args.outcome, ways, args.repeat):
+                raise SystemExit(f"the two ways disagree on {name}")
     return 0
 
 

@@ -6,7 +6,8 @@
 3. one GROUPING SETS query: rows and events per distinct value of every exactly reduced
    column;
 4. for binned columns, one query of order statistics and the quantile grid, one of the
-   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin.
+   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin (DuckDB:
+   one query a column, its bins found by an ASOF join, ``bin_join.py``).
 
 Every answer is per column, per distinct value or per bin; no row leaves the engine.
 """

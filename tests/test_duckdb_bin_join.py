@@ -4,12 +4,15 @@ numpy.bincount of those numbers, on a column with ties, missing values and infin
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+from contextlib import contextmanager
+
 import numpy as np
 import pandas as pd
 
 from tui.engine.pushed import bin_plan
 from tui.intake.sources import bin_join, bins
-from tui.intake.sources.duckdb_source import open_file_through_duckdb
+from tui.intake.sources.duckdb_source import DuckDBSource, open_file_through_duckdb
 
 
 def _tied_frame(rows: int = 20_000, seed: int = 5) -> pd.DataFrame:
@@ -51,22 +54,37 @@ def _numpy_counts(frame: pd.DataFrame, cut: bins.Cuts) -> tuple[np.ndarray, ...]
     )
 
 
-def test_asof_bin_counts_equal_numpy_searchsorted_and_bincount(tmp_path):
-    frame = _tied_frame()
-    path = tmp_path / "tied.parquet"
-    frame.to_parquet(path)
-    source = open_file_through_duckdb(str(path))
-    try:
-        assert source.dialect.asof_bins  # the path under test
-        pushed, _ = source.reduce(source.code_outcome("y", None), ["x"], bin_plan())
-    finally:
-        source.close()
-    (column,) = pushed
-    assert not column.exact
+def _numpy_cuts(frame: pd.DataFrame) -> tuple[np.ndarray, bins.Cuts]:
+    """The sorted finite values and the cuts a file scan makes from them."""
     finite = np.sort(frame["x"].to_numpy()[np.isfinite(frame["x"].to_numpy())])
     plan = bin_plan()
     order = finite[bins.positions(finite.size, plan)]
-    cut = bins.cuts(finite.size, plan, order, finite[0], finite[-1])
+    return finite, bins.cuts(finite.size, plan, order, finite[0], finite[-1])
+
+
+@contextmanager
+def _opened(tmp_path, frame: pd.DataFrame) -> Iterator[tuple[DuckDBSource, str]]:
+    """The frame as a Parquet file read through DuckDB, outcome y coded, and the base
+    statement that gives column x as c0__."""
+    path = tmp_path / "x.parquet"
+    frame.to_parquet(path)
+    source = open_file_through_duckdb(str(path))
+    try:
+        reduction = source._reduction
+        reduction.code("y", None)
+        yield source, reduction._base([reduction.columns["x"]])
+    finally:
+        source.close()
+
+
+def test_asof_bin_counts_equal_numpy_searchsorted_and_bincount(tmp_path):
+    frame = _tied_frame()
+    with _opened(tmp_path, frame) as (source, _):
+        assert source.dialect.asof_bins  # the path under test
+        pushed, _ = source.reduce(source.code_outcome("y", None), ["x"], bin_plan())
+    (column,) = pushed
+    assert not column.exact
+    finite, cut = _numpy_cuts(frame)
     assert cut.edges.size > 100  # many bins, each holding several tied values
     x, rows, events = _numpy_counts(frame, cut)
     np.testing.assert_array_equal(column.trials, rows)
@@ -77,25 +95,13 @@ def test_asof_bin_counts_equal_numpy_searchsorted_and_bincount(tmp_path):
 
 def test_asof_and_case_tree_statements_give_the_same_rows(tmp_path):
     frame = _tied_frame(seed=9)
-    path = tmp_path / "tied.parquet"
-    frame.to_parquet(path)
-    source = open_file_through_duckdb(str(path))
-    try:
-        reduction = source._reduction
-        reduction.code("y", None)
-        base = reduction._base([reduction.columns["x"]])
-        finite = np.sort(frame["x"].to_numpy()[np.isfinite(frame["x"].to_numpy())])
-        plan = bin_plan()
-        order = finite[bins.positions(finite.size, plan)]
-        cut = bins.cuts(finite.size, plan, order, finite[0], finite[-1])
-        joined = reduction.run(
-            bin_join.bin_counts_query(
-                base, "c0__", cut.low_tail, cut.high_tail, cut.edges, source.dialect
-            )
+    _, cut = _numpy_cuts(frame)
+    with _opened(tmp_path, frame) as (source, base):
+        sql = bin_join.bin_counts_query(
+            base, "c0__", cut.low_tail, cut.high_tail, cut.edges, source.dialect
         )
-        tree = reduction.run(reduction._bucket_query(base, [0], {0: cut}))
-    finally:
-        source.close()
+        joined = source._reduction.run(sql)
+        tree = source._reduction.run(source._reduction._bucket_query(base, [0], {0: cut}))
     tree = [r for r in tree if r[0] is not None]  # the tree's query keeps the missing group
     assert sorted(r[:4] for r in joined) == sorted(r[:4] for r in tree)
     assert len(joined) > 100
@@ -103,16 +109,8 @@ def test_asof_and_case_tree_statements_give_the_same_rows(tmp_path):
 
 def test_no_bin_starts_puts_every_middle_row_in_bin_zero(tmp_path):
     frame = pd.DataFrame({"y": [0, 1, 1, 0, 1], "x": [1.0, 2.0, np.nan, 3.0, 9.0]})
-    path = tmp_path / "small.parquet"
-    frame.to_parquet(path)
-    source = open_file_through_duckdb(str(path))
-    try:
-        reduction = source._reduction
-        reduction.code("y", None)
-        base = reduction._base([reduction.columns["x"]])
+    with _opened(tmp_path, frame) as (source, base):
         sql = bin_join.bin_counts_query(base, "c0__", 2.0, 9.0, np.zeros(0), source.dialect)
-        rows = sorted(reduction.run(sql), key=lambda r: (r[0], r[1] or 0))
-    finally:
-        source.close()
+        rows = sorted(source._reduction.run(sql), key=lambda r: (r[0], r[1] or 0))
     # 1.0 below the low tail and 9.0 at the high tail keep their values; 2.0 and 3.0 share 0.
     assert [tuple(r[:4]) for r in rows] == [(-1, 1.0, 1, 0), (-1, 9.0, 1, 1), (0, None, 2, 1)]

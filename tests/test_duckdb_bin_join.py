@@ -9,17 +9,18 @@ from contextlib import contextmanager
 
 import numpy as np
 import pandas as pd
+import pytest
 
 from tui.engine.pushed import bin_plan
 from tui.intake.sources import bin_join, bins
 from tui.intake.sources.duckdb_source import DuckDBSource, open_file_through_duckdb
 
 
-def _tied_frame(rows: int = 20_000, seed: int = 5) -> pd.DataFrame:
+def _tied_frame(rows: int = 20_000, seed: int = 5, values: int = 3_000) -> pd.DataFrame:
     """About 3,000 values each repeated several times, some missing and some infinite;
     invented data."""
     rng = np.random.default_rng(seed)
-    x = rng.integers(0, 3_000, rows) / 7.0
+    x = rng.integers(0, values, rows) / 7.0
     x[rng.choice(rows, 300, replace=False)] = np.nan
     x[rng.choice(rows, 20, replace=False)] = np.inf
     x[rng.choice(rows, 10, replace=False)] = -np.inf
@@ -77,14 +78,19 @@ def _opened(tmp_path, frame: pd.DataFrame) -> Iterator[tuple[DuckDBSource, str]]
         source.close()
 
 
-def test_asof_bin_counts_equal_numpy_searchsorted_and_bincount(tmp_path):
-    frame = _tied_frame()
+@pytest.mark.parametrize(
+    ("rows", "values", "grouped"), [(20_000, 3_000, False), (150_000, 1_400, True)]
+)
+def test_asof_bin_counts_equal_numpy_searchsorted_and_bincount(tmp_path, rows, values, grouped):
+    frame = _tied_frame(rows, values=values)
+    finite, cut = _numpy_cuts(frame)
+    # Few values for the rows: the values are counted first, then joined.
+    assert (np.unique(finite).size * bin_join.GROUPED_SHARE <= finite.size) is grouped
     with _opened(tmp_path, frame) as (source, _):
         assert source.dialect.asof_bins  # the path under test
         pushed, _ = source.reduce(source.code_outcome("y", None), ["x"], bin_plan())
     (column,) = pushed
     assert not column.exact
-    finite, cut = _numpy_cuts(frame)
     assert cut.edges.size > 100  # many bins, each holding several tied values
     x, rows, events = _numpy_counts(frame, cut)
     np.testing.assert_array_equal(column.trials, rows)
@@ -101,9 +107,14 @@ def test_asof_and_case_tree_statements_give_the_same_rows(tmp_path):
             base, "c0__", cut.low_tail, cut.high_tail, cut.edges, source.dialect
         )
         joined = source._reduction.run(sql)
+        sql = bin_join.bin_counts_query(
+            base, "c0__", cut.low_tail, cut.high_tail, cut.edges, source.dialect, grouped=True
+        )
+        grouped = source._reduction.run(sql)
         tree = source._reduction.run(source._reduction._bucket_query(base, [0], {0: cut}))
     tree = [r for r in tree if r[0] is not None]  # the tree's query keeps the missing group
     assert sorted(r[:4] for r in joined) == sorted(r[:4] for r in tree)
+    assert sorted(r[:4] for r in grouped) == sorted(r[:4] for r in tree)
     assert len(joined) > 100
 
 

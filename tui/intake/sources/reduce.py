@@ -286,8 +286,10 @@ class SqlReduction:
         if d.asof_bins:  # one statement a column, each joined to its own bin starts
             for i in binned:
                 c = cut[i]
+                n, distinct = int(stats[i][0]), int(stats[i][1])
+                few = distinct * bin_join.GROUPED_SHARE <= n
                 sql = bin_join.bin_counts_query(
-                    base, f"c{i}__", c.low_tail, c.high_tail, c.edges, d
+                    base, f"c{i}__", c.low_tail, c.high_tail, c.edges, d, few
                 )
                 _collect(self.run(sql), [i], found)
         else:

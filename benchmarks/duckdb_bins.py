@@ -82,7 +82,7 @@ def compare(path: Path, name: str, outcome: str, ways: list[str], repeat: int) -
                 start = time.perf_counter()
                 rows = red.run(statements[way])
                 took = time.perf_counter() - start
-                print(f"  {way:5s} {took:7.2f} s, {len(rows)} rows; {_load()}", flush=True)
+                print(f"  {way:7s} {took:7.2f} s, {len(rows)} rows; {_load()}", flush=True)
                 answers[way] = sorted(tuple(r[:4]) for r in rows if r[0] is not None)
     finally:
         source.close()

@@ -28,6 +28,9 @@ class Dialect:
     sort per column (``sorted_pass.py``) instead of quantile aggregates."""
     binned_per_query: int | None = None
     """Binned columns counted per query (None: all in one GROUPING SETS query)."""
+    asof_bins = False
+    """Bin numbers come from an ASOF join to the bin starts (``bin_join.py``), one column a
+    query, instead of a per-row ``bucket`` expression."""
     approx_distinct: str | None = None
     """An estimating distinct-count function: the profile then only guesses which columns
     have few values, and the exact count comes from their counts or their sort."""

@@ -3,7 +3,8 @@ CSV or Parquet file reduced by DuckDB without loading it (``--engine duckdb``).
 
 A binned column is sorted once by a window (``sorted_pass.py``): the order statistics and
 the quantile grid are read off that sort exactly, so it gets the very bins a file scan
-makes. The profile estimates distinct counts (``approx_count_distinct``) only to choose the
+makes; its rows find their bins by an ASOF join to the bin starts (``bin_join.py``). The
+profile estimates distinct counts (``approx_count_distinct``) only to choose the
 path; the exact count comes from the per-value counts or the sort. A CSV file is first
 copied once into a DuckDB table in a temporary folder, since every pass over the text
 would parse it again. DuckDB runs under ``MEMORY_LIMIT`` and spills sorts to that folder.
@@ -40,6 +41,7 @@ class DuckDBDialect(Dialect):
     # One GROUPING SETS query over 16 binned columns of 10,000,000 rows was still running
     # after 5 minutes (load 8); one column a query takes seconds each.
     binned_per_query = 1
+    asof_bins = True
 
 
 def _numeric(type_name: str) -> bool:

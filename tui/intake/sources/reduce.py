@@ -6,7 +6,8 @@
 3. one GROUPING SETS query: rows and events per distinct value of every exactly reduced
    column;
 4. for binned columns, one query of order statistics and the quantile grid, one of the
-   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin.
+   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin (DuckDB:
+   one query a column, its bins found by an ASOF join, ``bin_join.py``).
 
 Every answer is per column, per distinct value or per bin; no row leaves the engine.
 """
@@ -20,7 +21,7 @@ import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bins, lookups, sorted_pass
+from tui.intake.sources import bin_join, bins, lookups, sorted_pass
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -278,10 +279,33 @@ class SqlReduction:
     ) -> dict[int, tuple]:
         d = self.dialect
         cut: dict[int, bins.Cuts] = {}
-        keys, sums, selects = [], [], []
         for i in binned:
             n, _, low, high, *_ = stats[i]
             cut[i] = bins.cuts(int(n), plan, order[i][0], float(low), float(high))
+        found: dict[int, list[tuple[float, float, float]]] = {i: [] for i in binned}
+        if d.asof_bins:  # one statement a column, each joined to its own bin starts
+            for i in binned:
+                c = cut[i]
+                n, distinct = int(stats[i][0]), int(stats[i][1])
+                few = distinct * bin_join.GROUPED_SHARE <= n
+                sql = bin_join.bin_counts_query(
+                    base, f"c{i}__", c.low_tail, c.high_tail, c.edges, d, few
+                )
+                _collect(self.run(sql), [i], found)
+        else:
+            _collect(self.run(self._bucket_query(base, binned, cut)), binned, found)
+        out = {}
+        for i in binned:
+            triples = sorted(found[i])
+            x, t, e = (np.array(v, dtype=float) for v in zip(*triples, strict=True))
+            out[i] = (x, t, e, order[i][2], order[i][1])
+        return out
+
+    def _bucket_query(self, base: str, binned: list[int], cut: dict[int, bins.Cuts]) -> str:
+        """One GROUPING SETS statement over ``binned``, each row's bin by ``Dialect.bucket``."""
+        d = self.dialect
+        keys, sums, selects = [], [], []
+        for i in binned:
             c = f"c{i}__"
             lo, hi = d.number(cut[i].low_tail), d.number(cut[i].high_tail)
             tail = f"{c} < {lo} OR {c} >= {hi}"
@@ -296,27 +320,28 @@ class SqlReduction:
         inner += ", ".join(selects) + " FROM b) "
         flat = [k for ks in keys for k in ks]
         sets = ", ".join("(" + ", ".join(ks) + ")" for ks in keys)
-        rows = self.run(
+        return (
             f"{inner}SELECT {', '.join(flat)}, COUNT(*), SUM(y__), {', '.join(sums)} "
             f"FROM bb GROUP BY GROUPING SETS ({sets})"
         )
-        found: dict[int, list[tuple[float, float, float]]] = {i: [] for i in binned}
-        width = 2 * len(binned)
-        for row in rows:
-            for slot, i in enumerate(binned):
-                k, v = row[2 * slot], row[2 * slot + 1]
-                if k is None:
-                    continue
-                n, e = float(row[width]), float(row[width + 1])
-                x = float(v) if v is not None else float(row[width + 2 + slot]) / n
-                found[i].append((x, n, e))
-                break
-        out = {}
-        for i in binned:
-            triples = sorted(found[i])
-            x, t, e = (np.array(v, dtype=float) for v in zip(*triples, strict=True))
-            out[i] = (x, t, e, order[i][2], order[i][1])
-        return out
+
+
+def _collect(
+    rows: list[tuple], binned: list[int], found: dict[int, list[tuple[float, float, float]]]
+) -> None:
+    """(x, rows, events) per bin from answer rows laid out as (bin, tail value) per column,
+    then rows, events and summed x per column: a tail value is its own x, a bin's x is its
+    mean."""
+    width = 2 * len(binned)
+    for row in rows:
+        for slot, i in enumerate(binned):
+            k, v = row[2 * slot], row[2 * slot + 1]
+            if k is None:
+                continue
+            n, e = float(row[width]), float(row[width + 1])
+            x = float(v) if v is not None else float(row[width + 2 + slot]) / n
+            found[i].append((x, n, e))
+            break
 
 
 def _binned_by(stats: Sequence[Any], plan: BinPlan) -> bool:

@@ -54,12 +54,14 @@ def run(args: argparse.Namespace) -> int:
     from tui.app.app import ReviewApp
 
     settings = ScanSettings(groups=args.groups, knots=args.knots)
-    session = _source_session(args, settings) or _file_session(args, settings)
-    restore = release_on_hangup(session.book.close)  # a dropped connection leaves no lock
+    restore = release_on_hangup()  # set before the lock is taken: a hang-up leaves none
     try:
-        ReviewApp(session).run()
+        session = _source_session(args, settings) or _file_session(args, settings)
+        try:
+            ReviewApp(session).run()
+        finally:
+            session.book.close()  # the lock goes; every decision is already saved
     finally:
-        session.book.close()  # the lock goes; every decision is already saved
         restore()
     return 0
 

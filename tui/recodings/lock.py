@@ -82,6 +82,10 @@ class Holder:
         return False
 
 
+_HELD: list[LogLock] = []
+"""The locks this process holds now."""
+
+
 class LogLocked(InputProblem):
     """Another review holds the log's lock."""
 
@@ -100,8 +104,13 @@ class LogLock:
     holder: Holder
     """What this process wrote in it."""
 
+    def __post_init__(self) -> None:
+        _HELD.append(self)  # so a hang-up can drop it, even before the review has started
+
     def release(self) -> None:
         """Remove the lock file, unless another review has taken it over since."""
+        if self in _HELD:
+            _HELD.remove(self)
         if read_holder(self.path) == self.holder:
             with contextlib.suppress(OSError):  # already gone: nothing to release
                 self.path.unlink()
@@ -211,16 +220,18 @@ HANGUP_SIGNALS = ("SIGHUP", "SIGTERM")
 """A dropped SSH connection sends SIGHUP, a system shutdown or ``kill`` SIGTERM."""
 
 
-def release_on_hangup(release: Callable[[], None]) -> Callable[[], None]:
-    """Call ``release`` (drop the log's lock) and end the process when the terminal hangs
+def release_on_hangup() -> Callable[[], None]:
+    """Release every lock this process holds and end the process when the terminal hangs
     up or the process is told to stop: their default action would end it at once and
     leave the lock behind. Every decision is saved before it counts, so nothing is lost;
-    an interrupted save leaves the old log whole (atomic write). Returns the call that puts
-    the earlier handlers back; outside the main thread nothing is changed."""
+    an interrupted save leaves the old log whole (atomic write). Set it before a lock is
+    taken. Returns the call that puts the earlier handlers back; outside the main thread
+    nothing is changed."""
 
     def ended(signum: int, _frame: object) -> None:
-        with contextlib.suppress(Exception):
-            release()
+        for lock in list(_HELD):
+            with contextlib.suppress(Exception):
+                lock.release()
         os._exit(128 + signum)  # the terminal is gone: no screen to restore
 
     if threading.current_thread() is not threading.main_thread():

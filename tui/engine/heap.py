@@ -13,6 +13,7 @@ next step. Only glibc has ``mallopt``; on other systems this does nothing.
 from __future__ import annotations
 
 import ctypes
+import functools
 import sys
 
 _M_TRIM_THRESHOLD = -1
@@ -22,18 +23,11 @@ MMAP_THRESHOLD = 32 * 2**20
 TRIM_THRESHOLD = 128 * 2**20
 """Free memory at the top of the heap kept for reuse before any is given back."""
 
-_state: dict[str, bool] = {}
 
-
+@functools.cache
 def reuse_freed_memory() -> bool:
     """Ask the C allocator to keep freed blocks for reuse (once per process; forked worker
     processes inherit it). True when the allocator took both settings."""
-    if "done" not in _state:
-        _state["done"] = _set()
-    return _state["done"]
-
-
-def _set() -> bool:
     if not sys.platform.startswith("linux"):
         return False
     try:

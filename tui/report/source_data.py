@@ -40,9 +40,9 @@ def plain_counts(data: Data, column: str) -> ReducedCounts:
 
 
 def refuse_rows(data: ReducedData, log: RecodingLog, weight: str | None) -> None:
-    """Weights and covariates need rows, which a report never pulls from a source."""
-    adjusted = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
-    if weight or adjusted:
+    """Weights and covariates need rows, which the counts of a source do not hold."""
+    if rows_needed(log, weight):
+        adjusted = _adjusted_for(log)
         what = f"--weight {weight}" if weight else "decisions adjusted for " + ", ".join(adjusted)
         raise InputProblem(
             f"{what}: a report recomputes these from rows, which counts from "
@@ -52,8 +52,12 @@ def refuse_rows(data: ReducedData, log: RecodingLog, weight: str | None) -> None
 
 def rows_needed(log: RecodingLog, weight: str | None) -> list[str]:
     """The covariates and weight a report recomputes from rows (empty: counts will do)."""
-    adjusted = sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
-    return [*adjusted, *([weight] if weight else [])]
+    return [*_adjusted_for(log), *([weight] if weight else [])]
+
+
+def _adjusted_for(log: RecodingLog) -> list[str]:
+    """Every covariate some decision was judged with, sorted."""
+    return sorted({a for d in log.decisions for a in d.evidence.adjusted_for})
 
 
 def source_lines(

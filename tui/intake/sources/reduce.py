@@ -21,7 +21,7 @@ import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bin_join, bins, lookups, sorted_pass
+from tui.intake.sources import bin_join, bins, bucket_pass, lookups, sorted_pass
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -34,15 +34,24 @@ from tui.problems import InputProblem
 
 Run = Callable[[str], list[tuple[Any, ...]]]
 """Runs one statement and returns every row of its answer."""
+Bucketize = Callable[[str, str, np.ndarray], tuple[str, str]]
+"""(statement with CTE ``b``, column, bin starts) -> (relation holding b's columns and the
+bin number, that number's column): the engine's own bucket search (``bucket_pass.py``)."""
 
 
 class SqlReduction:
     """The reduction of one relation (table or query) through one engine's SQL."""
 
     def __init__(
-        self, dialect: Dialect, run: Run, relation: str, columns: Sequence[SourceColumn]
+        self,
+        dialect: Dialect,
+        run: Run,
+        relation: str,
+        columns: Sequence[SourceColumn],
+        bucketize: Bucketize | None = None,
     ) -> None:
         self.dialect, self.run, self.relation = dialect, run, relation
+        self.bucketize = bucketize
         self.columns = {c.name: c for c in columns}
         self._y = ""
         self._outcome = ""
@@ -251,6 +260,11 @@ class SqlReduction:
             parts.append(d.order_stats(f"c{i}__", bins.order_probabilities(n, plan)))
             parts.append(d.quantiles(f"c{i}__", grid_probs))
         answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        if self.bucketize is not None:  # gaps and distinct counts come with the bin counts
+            for slot, i in enumerate(binned):
+                order_at, grid = (np.asarray(answer[2 * slot + j], dtype=float) for j in (0, 1))
+                out[i] = (order_at, grid, None)
+            return out
         gaps = self.run(
             base
             + "SELECT "
@@ -282,6 +296,17 @@ class SqlReduction:
         for i in binned:
             n, _, low, high, *_ = stats[i]
             cut[i] = bins.cuts(int(n), plan, order[i][0], float(low), float(high))
+        if self.bucketize is not None:  # one query a column over the engine's bin numbers
+            out = {}
+            for i in binned:
+                relation, key = self.bucketize(base, f"c{i}__", cut[i].edges)
+                sql = bucket_pass.bucket_pass_query(
+                    relation, f"c{i}__", key, cut[i].low_tail, cut[i].high_tail, d
+                )
+                x, t, e, gap, distinct = bucket_pass.read_bucket_pass(self.run(sql))
+                stats[i][1] = distinct
+                out[i] = (x, t, e, gap, order[i][1])
+            return out
         found: dict[int, list[tuple[float, float, float]]] = {i: [] for i in binned}
         if d.asof_bins:  # one statement a column, each joined to its own bin starts
             for i in binned:

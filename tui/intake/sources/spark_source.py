@@ -27,8 +27,6 @@ from tui.problems import InputProblem
 ACCURACY = 100_000
 """percentile_approx accuracy: rank error at most n / ACCURACY rows."""
 DEFAULT_MASTER = "local[*]"
-BLOCK = 32
-"""Edges per block of a binned column's two-step bucket search."""
 NUMERIC_TYPES = frozenset({"tinyint", "smallint", "int", "bigint", "float", "double", "boolean"})
 
 
@@ -36,6 +34,8 @@ class SparkDialect(Dialect):
     """Spark SQL's spelling: backticks, approximate quantiles, double literals."""
 
     exact_quantiles = False
+    # Exact COUNT(DISTINCT) of many columns in one query expands every row once per column.
+    approx_distinct = "approx_count_distinct"
 
     def quote(self, name: str) -> str:
         return "`" + name.replace("`", "``") + "`"
@@ -52,18 +52,6 @@ class SparkDialect(Dialect):
 
     def quantiles(self, expr: str, probs: Sequence[float]) -> str:
         return f"percentile_approx({expr}, {self._array(probs)}, {ACCURACY})"
-
-    def bucket(self, expr: str, edges: np.ndarray) -> str:
-        """Count of edges <= x in two steps over literal arrays (blocks of ``BLOCK``): a
-        deep CASE tree is too large for Spark's code generation and runs interpreted."""
-        if edges.size == 0:
-            return "0"
-        blocks = [edges[i : i + BLOCK] for i in range(0, edges.size, BLOCK)]
-        firsts = self._array([b[0] for b in blocks])
-        nested = "array(" + ", ".join(self._array(b) for b in blocks) + ")"
-        j = f"size(filter({firsts}, e -> e <= {expr}))"
-        inside = f"size(filter(element_at({nested}, {j}), e -> e <= {expr}))"
-        return f"CASE WHEN {j} = 0 THEN 0 ELSE ({j} - 1) * {BLOCK} + {inside} END"
 
 
 def spark_session(master: str | None):
@@ -115,7 +103,27 @@ class SparkSource(ReducedInEngine):
             SourceColumn(f.name, f.dataType.simpleString(), _numeric(f.dataType.simpleString()))
             for f in frame.schema.fields
         ]
-        self._reduction = SqlReduction(self.dialect, self._run, relation, self._columns)
+        self._reduction = SqlReduction(
+            self.dialect, self._run, relation, self._columns, self._bucketize
+        )
+
+    def _bucketize(self, base: str, column: str, edges: np.ndarray) -> tuple[str, str]:
+        """A view of ``b`` with ``column``'s bin number (count of edges <= x) found by
+        ``Bucketizer``'s binary search in the JVM: higher-order ``filter`` expressions over
+        the edges, or a CASE tree too deep to compile, run interpreted."""
+        from pyspark.ml.feature import Bucketizer
+
+        frame = self._session.sql(f"{base}SELECT * FROM b")
+        view = f"bendwise_bins_{os.getpid()}"
+        if edges.size == 0:  # one bin: Bucketizer needs at least three splits
+            frame.selectExpr("*", "0 AS kb__").createOrReplaceTempView(view)
+            return self.dialect.quote(view), "kb__"
+        splits = [-float("inf"), *(float(e) for e in edges), float("inf")]
+        bucketed = Bucketizer(
+            splits=splits, inputCol=column, outputCol="kd__", handleInvalid="keep"
+        ).transform(frame)
+        bucketed.selectExpr("*", "CAST(kd__ AS INT) AS kb__").createOrReplaceTempView(view)
+        return self.dialect.quote(view), "kb__"
 
     def _run(self, sql: str) -> list[tuple[Any, ...]]:
         try:

@@ -90,6 +90,14 @@ class Dialect:
         """Linear-interpolation quantiles (numpy's default, type 7) at ``probs``."""
         return f"quantile_cont({expr}, {self._list(probs)})"
 
+    def picked(self, expr: str, order: str, positions: np.ndarray) -> str:
+        """The values of ``expr`` on the rows whose ``order`` is one of ``positions``, as one
+        array in ``order``."""
+        listed = ", ".join(str(int(p)) for p in positions)
+        return (
+            f"list({expr} ORDER BY {order}) FILTER (WHERE {order} IN (SELECT unnest([{listed}])))"
+        )
+
     def _list(self, probs: Sequence[float]) -> str:
         return "[" + ", ".join(repr(float(p)) for p in probs) + "]"
 

@@ -18,6 +18,10 @@ from tui.intake.sources.postgres_url import checked_url, redacted, scrub
 from tui.intake.sources.reduce import ReducedInEngine, SqlReduction
 from tui.problems import InputProblem
 
+WORK_MEM = "64MB"
+"""This connection's sort memory (``SET work_mem``, session only): at the default 4 MB each
+column's sort of 1,000,000 rows spills to disk (a sort of 1,000,000 doubles takes about
+24 MB); the server's own settings are left alone."""
 NUMERIC_TYPES = frozenset({"int2", "int4", "int8", "float4", "float8", "numeric", "bool", "oid"})
 
 
@@ -25,6 +29,17 @@ class PostgresDialect(Dialect):
     """PostgreSQL's spelling."""
 
     double = "DOUBLE PRECISION"
+    # One window sort a column gives order statistics, grid, gap and distinct count: the
+    # percentile arrays and a separate LAG window each sorted every column again (1,000,000
+    # x 50: 43 s and 73 s, load 5 to 7).
+    sorted_pass = True
+
+    def picked(self, expr: str, order: str, positions: np.ndarray) -> str:
+        listed = ", ".join(str(int(p)) for p in positions)
+        return (
+            f"array_agg({expr} ORDER BY {order}) "
+            f"FILTER (WHERE {order} = ANY(ARRAY[{listed}]::bigint[]))"
+        )
 
     def as_double(self, quoted: str, column: SourceColumn) -> str:
         if column.type == "bool":  # no direct cast from boolean to a float
@@ -70,6 +85,7 @@ class PostgresSource(ReducedInEngine):
             raise InputProblem(f"{redacted(url)}: {self._first_line(problem)}") from None
         with self._con.cursor() as cur:
             try:
+                cur.execute(f"SET work_mem = {self.dialect.text(WORK_MEM)}")
                 cur.execute(f"SELECT * FROM {relation} AS s LIMIT 0")
             except psycopg.Error as problem:
                 raise InputProblem(f"{self.label}: {self._first_line(problem)}") from None

@@ -249,7 +249,7 @@ class SqlReduction:
         out: dict[int, tuple[np.ndarray, np.ndarray, float | None]] = {}
         if d.sorted_pass:
             for i in binned:
-                got = sorted_pass.sorted_stats(self.run, base, f"c{i}__", int(stats[i][0]), plan)
+                got = sorted_pass.sorted_stats(self.run, base, f"c{i}__", int(stats[i][0]), plan, d)
                 stats[i][1] = got.distinct
                 out[i] = (got.order, got.grid, got.gap)
             return out

@@ -20,6 +20,7 @@ import numpy as np
 
 from tui.intake.sources import bins
 from tui.intake.sources.base import BinPlan
+from tui.intake.sources.dialect import Dialect
 
 
 @dataclass(frozen=True)
@@ -61,27 +62,31 @@ def needed_positions(n: int, plan: BinPlan) -> np.ndarray:
     return np.unique(np.r_[bins.positions(n, plan), lo, hi])
 
 
-def sorted_query(base: str, column: str, wanted: np.ndarray) -> str:
+def sorted_query(base: str, column: str, wanted: np.ndarray, d: Dialect | None = None) -> str:
     """One statement: the smallest positive step, the number of steps, and the (position,
     value) pairs at ``wanted``, from one sort of ``column`` (finite values only)."""
-    listed = ", ".join(str(int(p)) for p in wanted)
+    d = d or Dialect()
     return (
         f"{base}, w AS (SELECT {column} AS x__, "
         f"row_number() OVER (ORDER BY {column}) - 1 AS r__, "
         f"{column} - LAG({column}) OVER (ORDER BY {column}) AS d__ "
         f"FROM b WHERE {column} IS NOT NULL) "
         "SELECT MIN(d__) FILTER (WHERE d__ > 0), COUNT(*) FILTER (WHERE d__ > 0), "
-        f"list(r__ ORDER BY r__) FILTER (WHERE r__ IN (SELECT unnest([{listed}]))), "
-        f"list(x__ ORDER BY r__) FILTER (WHERE r__ IN (SELECT unnest([{listed}]))) FROM w"
+        f"{d.picked('r__', 'r__', wanted)}, {d.picked('x__', 'r__', wanted)} FROM w"
     )
 
 
 def sorted_stats(
-    run: Callable[[str], list[tuple[Any, ...]]], base: str, column: str, n: int, plan: BinPlan
+    run: Callable[[str], list[tuple[Any, ...]]],
+    base: str,
+    column: str,
+    n: int,
+    plan: BinPlan,
+    d: Dialect | None = None,
 ) -> SortedStats:
     """The sorted-pass figures of one binned column of ``n`` finite rows."""
     wanted = needed_positions(n, plan)
-    gap, steps, where, values = run(sorted_query(base, column, wanted))[0]
+    gap, steps, where, values = run(sorted_query(base, column, wanted, d))[0]
     found = dict(zip((int(r) for r in where), (float(v) for v in values), strict=True))
     if len(found) != wanted.size:  # the engine must answer every position it was asked
         raise RuntimeError(f"sorted pass returned {len(found)} of {wanted.size} positions")

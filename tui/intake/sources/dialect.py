@@ -28,6 +28,8 @@ class Dialect:
     sort per column (``sorted_pass.py``) instead of quantile aggregates."""
     binned_per_query: int | None = None
     """Binned columns counted per query (None: all in one GROUPING SETS query)."""
+    quantiles_per_query: int | None = None
+    """Binned columns whose quantile aggregates share one query (None: all of them)."""
     asof_bins = False
     """Bin numbers come from an ASOF join to the bin starts (``bin_join.py``), one column a
     query, instead of a per-row ``bucket`` expression."""

@@ -254,12 +254,15 @@ class SqlReduction:
                 out[i] = (got.order, got.grid, got.gap)
             return out
         grid_probs = np.linspace(0.0, 1.0, plan.grid)
-        parts = []
-        for i in binned:
-            n = int(stats[i][0])
-            parts.append(d.order_stats(f"c{i}__", bins.order_probabilities(n, plan)))
-            parts.append(d.quantiles(f"c{i}__", grid_probs))
-        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        step = d.quantiles_per_query or len(binned)
+        answer: list[Any] = []
+        for at in range(0, len(binned), step):
+            parts = []
+            for i in binned[at : at + step]:
+                n = int(stats[i][0])
+                parts.append(d.order_stats(f"c{i}__", bins.order_probabilities(n, plan)))
+                parts.append(d.quantiles(f"c{i}__", grid_probs))
+            answer += list(self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0])
         if self.bucketize is not None:  # gaps and distinct counts come with the bin counts
             for slot, i in enumerate(binned):
                 order_at, grid = (np.asarray(answer[2 * slot + j], dtype=float) for j in (0, 1))

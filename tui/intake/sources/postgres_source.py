@@ -1,8 +1,8 @@
 """PostgreSQL: a table or query reduced by the server (psycopg 3, the ``postgres`` extra).
 
-``percentile_disc`` and ``percentile_cont`` (ordered-set aggregates) are exact, and
-``percentile_cont`` interpolates as numpy's default does; ``width_bucket`` over an array of
-edges does a binned column's bucket search inside the server.
+A binned column is sorted once by a window (``sorted_pass.py``), so its order statistics,
+quantile grid, smallest gap and distinct count are exact; ``width_bucket`` over an array of
+edges does its bucket search inside the server, one column a query.
 """
 
 from __future__ import annotations

@@ -6,8 +6,12 @@
 3. one GROUPING SETS query: rows and events per distinct value of every exactly reduced
    column;
 4. for binned columns, one query of order statistics and the quantile grid, one of the
-   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin (DuckDB:
-   one query a column, its bins found by an ASOF join, ``bin_join.py``).
+   smallest gaps, and one GROUPING SETS query of rows, events and summed x per bin. DuckDB
+   and PostgreSQL instead sort each binned column once (``sorted_pass.py``) and count its
+   bins one column a query (DuckDB by an ASOF join, ``bin_join.py``); Spark takes the
+   quantiles from sketches, a few columns a query, and counts bins, gaps and distinct
+   values one column a query over the bin numbers its ``Bucketizer`` finds
+   (``bucket_pass.py``).
 
 Every answer is per column, per distinct value or per bin; no row leaves the engine.
 """

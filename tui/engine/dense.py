@@ -16,41 +16,36 @@ except ImportError:  # pragma: no cover - depends on the numpy release
     _kernels = None
 
 
-def _finite(result: np.ndarray) -> np.ndarray | None:
+def _run(kernel: str, public, *args: np.ndarray) -> np.ndarray | None:
+    """numpy's gufunc ``kernel`` on ``args`` (``public`` if the module moved); None when
+    LAPACK failed (NaN in the result, or numpy.linalg's error)."""
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+        try:
+            if _kernels is None:
+                result = public(*args)
+            else:
+                result = getattr(_kernels, kernel)(*args, signature=_SIGNATURES[len(args)])
+        except np.linalg.LinAlgError:
+            return None
     return result if bool(np.isfinite(result).all()) else None
+
+
+_SIGNATURES = {1: "d->d", 2: "dd->d"}
 
 
 def solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
     """x with a @ x = b (LU with partial pivoting, LAPACK dgesv); None if a is singular."""
-    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-        if _kernels is None:
-            try:
-                return _finite(np.linalg.solve(a, b))
-            except np.linalg.LinAlgError:
-                return None
-        return _finite(_kernels.solve1(a, b, signature="dd->d"))
+    return _run("solve1", np.linalg.solve, a, b)
 
 
 def cholesky_lower(a: np.ndarray) -> np.ndarray | None:
     """Lower Cholesky factor of symmetric ``a`` (LAPACK dpotrf); None if not positive definite."""
-    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-        if _kernels is None:
-            try:
-                return np.linalg.cholesky(a)
-            except np.linalg.LinAlgError:
-                return None
-        return _finite(_kernels.cholesky_lo(a, signature="d->d"))
+    return _run("cholesky_lo", np.linalg.cholesky, a)
 
 
 def inverse(a: np.ndarray) -> np.ndarray | None:
     """Inverse of square ``a`` (LU); None if singular."""
-    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-        if _kernels is None:
-            try:
-                return np.linalg.inv(a)
-            except np.linalg.LinAlgError:
-                return None
-        return _finite(_kernels.inv(a, signature="d->d"))
+    return _run("inv", np.linalg.inv, a)
 
 
 def qr_r(a: np.ndarray) -> np.ndarray:

@@ -6,7 +6,7 @@ they leave out and the covariates-only fit are the same for all of them, so they
 computed once (``CovariateBlock``) and every fit starts from the covariates-only fit.
 The Newton steps are the plain ones of ``fitting.fit_logistic`` on standardised columns,
 with the Bernoulli log-likelihood and the fitted probabilities taken from one exponential
-per row, and a Cholesky solve. Whenever a fit needs more than a full Newton step (step
+per row, and a small dense solve. Whenever a fit needs more than a full Newton step (step
 halving, a nearly collinear design, fitted log-odds beyond ±30, no convergence), the fast
 path gives up and ``fit_logistic`` fits that design, so hard cases behave exactly as before.
 """
@@ -16,8 +16,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.linalg import lapack
 
+from tui.engine import dense
 from tui.engine.fitting import LogisticFit, fit_logistic
 
 _MAX_ITER = 30
@@ -156,16 +156,19 @@ def newton(
             resid, weight = events - fitted, fitted * (1.0 - mu)
         grad = xt @ resid
         root = xt * np.sqrt(weight)
-        chol, info = lapack.dpotrf(root @ root.T, lower=0)
-        if info != 0:
+        hessian = root @ root.T
+        chol = dense.cholesky_lower(hessian)
+        if chol is None:
             return None
         if iteration == 0:
             pivots = np.abs(np.diagonal(chol))
             if pivots.min() < _RANK_DOUBT * pivots.max():
                 return None
-        step, info = lapack.dpotrs(chol, grad, lower=0)
+        step = dense.solve(hessian, grad)
+        if step is None:
+            return None
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < _WILD_STEP:
+        if not moved < _WILD_STEP:
             return None
         beta = beta + step
         eta = beta @ xt
@@ -197,12 +200,16 @@ def chord(
     """
     top, low = parts
     c = top.shape[0]
-    chol, info = lapack.dpotrf(hessian, lower=0)
+    chol = dense.cholesky_lower(hessian)
     beta = np.array(start, dtype=float)
-    if info != 0:
+    if chol is None:
         return beta, None
     pivots = np.abs(np.diagonal(chol))
     if pivots.min() < _RANK_DOUBT * pivots.max():
+        return beta, None
+    # The Hessian is kept for every step: its inverse once, then a product per step.
+    kept = dense.inverse(hessian)
+    if kept is None:
         return beta, None
     eta = np.array(beta[:c] @ top + beta[c:] @ low if eta is None else eta, dtype=float)
     # Buffers reused by every step: no temporary the size of the rows is made per step.
@@ -217,9 +224,9 @@ def chord(
         np.divide(expected, resid, out=resid)  # expected events
         np.subtract(events, resid, out=resid)
         grad = np.concatenate([top @ resid, low @ resid])
-        step, info = lapack.dpotrs(chol, grad, lower=0)
+        step = kept @ grad
         moved = float(np.abs(step).max())
-        if info != 0 or not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
+        if not moved < _WILD_STEP or moved > _CHORD_RATE * previous:
             return beta, None
         gain = 0.5 * float(grad @ step)
         if gain < _GAIN_DONE:

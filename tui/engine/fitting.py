@@ -17,8 +17,9 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special
-from scipy.linalg import lapack
+
+from tui.engine import dense
+from tui.engine.chi_square import chi2_upper
 
 # A fitted linear predictor beyond this puts a probability within 1e-13 of 0 or 1:
 # only a separated (or quasi-separated) design drives a maximum likelihood fit there.
@@ -99,6 +100,13 @@ def one_blas_thread() -> Iterator[None]:
         yield
 
 
+def expit(eta: np.ndarray) -> np.ndarray:
+    """1 / (1 + e^-eta) in the two forms scipy's expit uses, neither of which overflows:
+    e^eta / (1 + e^eta) below zero, 1 / (1 + e^-eta) from zero up."""
+    low = np.exp(-np.abs(eta))
+    return np.where(eta < 0, low, 1.0) / (1.0 + low)
+
+
 def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> float:
     """Bernoulli log-likelihood summed over the rows behind each design row."""
     return float(events @ eta - trials @ np.logaddexp(0.0, eta))
@@ -162,9 +170,9 @@ def fit_logistic(
         raise ValueError("design columns out of floating-point range")
 
     # Drop linearly dependent columns (they get coefficient 0) and say so. Only R of the
-    # QR factorisation is needed; LAPACK's dgeqrf leaves it in the upper triangle.
+    # QR factorisation is needed (LAPACK's dgeqrf).
     root_w = np.sqrt(np.maximum(trials, 0))[:, None]
-    packed = lapack.dgeqrf(z * root_w)[0]
+    packed = dense.qr_r(z * root_w)
     diag = np.abs(np.diagonal(packed))
     keep = np.zeros(p, dtype=bool)  # beyond the rows' count a column cannot be independent
     keep[: diag.size] = diag > 1e-9 * max(1.0, float(diag.max(initial=0.0)))
@@ -172,13 +180,15 @@ def fit_logistic(
     rank_deficient = not bool(keep.all())
     zk = z[:, keep] if rank_deficient else z
     if rank_deficient:
-        packed = lapack.dgeqrf(zk * root_w)[0]
+        packed = dense.qr_r(zk * root_w)
     # Newton runs on whitened columns zk R^-1 (weighted orthonormal, times sqrt(rows)):
     # centring and scaling alone leave two powers of a column with one extreme value
     # (z^-2 and z^-1 of a tiny shifted x) nearly collinear, and Newton then stalls.
     kept = zk.shape[1]
     whiten = np.triu(packed[:kept, :kept]) / np.sqrt(max(nobs, 1e-300))
-    unwhiten = lapack.dtrtri(whiten)[0]
+    unwhiten = dense.inverse(whiten)
+    if unwhiten is None:  # kept columns have pivots above 1e-9 of the largest: not seen
+        raise np.linalg.LinAlgError("design too nearly collinear to whiten")
     zk = zk @ unwhiten
     zt = np.ascontiguousarray(zk.T)
 
@@ -201,13 +211,12 @@ def fit_logistic(
     converged = False
     creeping = 0
     for _ in range(_MAX_ITER):
-        mu = special.expit(eta)
+        mu = expit(eta)
         fitted = trials * mu
         grad = zt @ (events - fitted)
         hess = (zt * (fitted * (1.0 - mu))) @ zk
-        # LAPACK's dgesv, as np.linalg.solve calls it, without its per-call checks.
-        _, _, step, singular = lapack.dgesv(hess, grad)
-        if singular:
+        step = dense.solve(hess, grad)
+        if step is None:
             step = np.linalg.lstsq(hess, grad, rcond=None)[0]
         t = 1.0
         floor = ll - 1e-12 * max(1.0, abs(ll))
@@ -261,6 +270,5 @@ def lr_test(restricted: LogisticFit, full: LogisticFit, df: int) -> tuple[float,
     chi2 = max(0.0, 2.0 * (full.llf - restricted.llf))
     if df <= 0:
         return chi2, float("nan")
-    # chdtrc is the chi-square upper tail that scipy.stats.chi2.sf itself calls; importing
-    # scipy.stats would add a second to every start of the command and of a worker.
-    return chi2, float(special.chdtrc(df, chi2))
+    # Not scipy.stats.chi2.sf: importing scipy adds tenths of a second to every start.
+    return chi2, chi2_upper(df, chi2)

@@ -17,10 +17,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special
 
+from tui.engine.chi_square import chi2_upper
 from tui.engine.counts import ReducedCounts
-from tui.engine.fitting import LogisticFit
+from tui.engine.fitting import LogisticFit, expit
 from tui.engine.forms.base import Recoding, design_matrix
 
 LR, WALD_ROBUST, LR_APPROXIMATE = "LR", "Wald (robust)", "LR (approximate)"
@@ -49,7 +49,7 @@ def sandwich_covariance(
     nonevents_sq: np.ndarray,
 ) -> np.ndarray:
     """HC0 sandwich covariance of ``coef`` from counts per design row (rows as cells)."""
-    p = special.expit(design @ coef)
+    p = expit(design @ coef)
     bread = (design * (trials * p * (1.0 - p))[:, None]).T @ design
     meat_w = events_sq * (1.0 - p) ** 2 + nonevents_sq * p**2
     meat = (design * meat_w[:, None]).T @ design
@@ -63,7 +63,7 @@ def wald_test(coef: np.ndarray, cov: np.ndarray, tested: np.ndarray) -> WaldTest
     v = cov[np.ix_(tested, tested)]
     chi2 = float(max(0.0, b @ np.linalg.solve(v, b)))
     df = int(tested.size)
-    return WaldTest(chi2, df, float(special.chdtrc(df, chi2)))
+    return WaldTest(chi2, df, chi2_upper(df, chi2))
 
 
 def robust_wald(

@@ -10,7 +10,6 @@ of all-event or no-event rows does not run off to infinity.
 from __future__ import annotations
 
 import numpy as np
-from statsmodels.nonparametric.smoothers_lowess import lowess
 
 from tui.engine.counts import ReducedCounts
 
@@ -35,6 +34,9 @@ def smoothed_log_odds(
     if x.size < 10:
         return np.zeros(0), np.zeros(0)
     span = float(x.max() - x.min())
+    # Imported here: statsmodels (and the scipy under it) would slow every command's start.
+    from statsmodels.nonparametric.smoothers_lowess import lowess
+
     fitted = lowess(y, x, frac=fraction, it=0, delta=0.01 * span, return_sorted=True)
     xs, ps = fitted[:, 0], np.clip(fitted[:, 1], CLIP, 1 - CLIP)
     xs, first = np.unique(xs, return_index=True)

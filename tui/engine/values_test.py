@@ -12,8 +12,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import special
 
+from tui.engine.chi_square import chi2_upper
 from tui.engine.compare import FormFit
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import fit_logistic
@@ -52,7 +52,13 @@ def _per_value(counts: ReducedCounts) -> tuple[np.ndarray, np.ndarray, np.ndarra
 def _saturated_llf(trials: np.ndarray, events: np.ndarray) -> float:
     """Log-likelihood with each value at its observed proportion (0 log 0 = 0)."""
     non = trials - events
-    return float(np.sum(special.xlogy(events, events / trials) + special.xlogy(non, non / trials)))
+    return float(np.sum(_xlogy(events, events / trials) + _xlogy(non, non / trials)))
+
+
+def _xlogy(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """a log b, 0 where a is 0 (scipy's xlogy, without importing scipy)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(a == 0, 0.0, a * np.log(b))
 
 
 def values_score(counts: ReducedCounts, linear: FormFit) -> ValuesScore | None:
@@ -75,6 +81,6 @@ def values_score(counts: ReducedCounts, linear: FormFit) -> ValuesScore | None:
             return None
         full_llf = full.llf
     chi2 = max(0.0, 2.0 * (full_llf - linear.fit.llf))
-    p = float(special.chdtrc(df, chi2))
+    p = chi2_upper(df, chi2)
     log_odds = np.log((events + 0.5) / (trials - events + 0.5))
     return ValuesScore(chi2, df, p, values, log_odds)

@@ -3,7 +3,9 @@ CSV or Parquet file reduced by DuckDB without loading it (``--engine duckdb``).
 
 A binned column is sorted once by a window (``sorted_pass.py``): the order statistics and
 the quantile grid are read off that sort exactly, so it gets the very bins a file scan
-makes; its rows find their bins by an ASOF join to the bin starts (``bin_join.py``). The
+makes; its rows find their bins by an ASOF join to the bin starts (``bin_join.py``). From
+``SKETCH_FROM_ROWS`` rows on, binned columns are instead sketched, all in two scans
+(``sketch_pass.py``): approximate quantiles, exact bin counts, documented error. The
 profile estimates distinct counts (``approx_count_distinct``) only to choose the
 path; the exact count comes from the per-value counts or the sort. A CSV file is first
 copied once into a DuckDB table in a temporary folder, since every pass over the text
@@ -29,6 +31,11 @@ FILE_READERS = {".csv": "read_csv", ".tsv": "read_csv", ".parquet": "read_parque
 MEMORY_LIMIT = "500MB"
 """DuckDB's own memory cap (its buffers; it spills sorts to disk beyond it): with Python and
 the scan the process stays under 1 GB on 10,000,000 x 20 (benchmarks/duckdb_speed.py)."""
+SKETCH_FROM_ROWS = 2_000_000
+"""From this many rows with an outcome, binned columns take the approximate two-scan path
+(``sketch_pass.py``): 10,000,000 x 20 Parquet in 36 s instead of 111 s (2 cores), where
+an exact sort per column costs seconds each; below it the exact passes stay, and all of
+the source tests check those to 1e-9."""
 STAGED = "bendwise_staged"
 """The table a CSV file is copied into."""
 
@@ -88,7 +95,9 @@ class DuckDBSource(ReducedInEngine):
             raise
         relation = self.relation
         self._columns = [SourceColumn(r[0], r[1], _numeric(r[1])) for r in described]
-        self._reduction = SqlReduction(self.dialect, self._run, relation, self._columns)
+        self._reduction = SqlReduction(
+            self.dialect, self._run, relation, self._columns, sketch_from=SKETCH_FROM_ROWS
+        )
 
     def _set_up(self, relation: str, staged: str | None) -> str:
         """Settings for this connection; a CSV file copied into the staging table."""

@@ -25,7 +25,14 @@ import numpy as np
 import pandas as pd
 
 from tui.intake.outcome import _ordered, _show, code_outcome
-from tui.intake.sources import bin_join, bins, bucket_pass, lookups, sorted_pass
+from tui.intake.sources import (
+    bin_join,
+    bins,
+    bucket_pass,
+    lookups,
+    sketch_pass,
+    sorted_pass,
+)
 from tui.intake.sources.base import (
     BinPlan,
     OtherColumn,
@@ -53,9 +60,13 @@ class SqlReduction:
         relation: str,
         columns: Sequence[SourceColumn],
         bucketize: Bucketize | None = None,
+        sketch_from: int | None = None,
     ) -> None:
         self.dialect, self.run, self.relation = dialect, run, relation
         self.bucketize = bucketize
+        self.sketch_from = sketch_from
+        """From this many rows with an outcome, binned columns are sketched
+        (``sketch_pass.py``, approximate); None: always the exact passes."""
         self.columns = {c.name: c for c in columns}
         self._y = ""
         self._outcome = ""
@@ -141,6 +152,9 @@ class SqlReduction:
             many = [i for i in exact if _binned_by(stats[i], plan)]
             exact = [i for i in exact if i not in set(many)]
             binned = sorted(binned + many)
+        if binned and self.sketch_from is not None and outcome.rows >= self.sketch_from:
+            tables.update(self._sketched_counts(base, binned, stats, plan))
+            binned = []
         order = self._order_stats(base, binned, stats, plan)
         few = [i for i in binned if not _binned_by(stats[i], plan)]  # the estimate was off
         if few:
@@ -288,6 +302,28 @@ class SqlReduction:
                 np.asarray(answer[2 * slot + 1], dtype=float),
                 None if gap is None else float(gap),
             )
+        return out
+
+    def _sketched_counts(
+        self, base: str, binned: list[int], stats: list[list[Any]], plan: BinPlan
+    ) -> dict[int, tuple]:
+        """Binned columns by two scans for all of them (``sketch_pass.py``)."""
+        d = self.dialect
+        parts = [p for i in binned for p in sketch_pass.sketch_parts(f"c{i}__", plan, d)]
+        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        sketch, start = {}, {}
+        for slot, i in enumerate(binned):
+            sketch[i] = sketch_pass.read_sketch(answer[3 * slot : 3 * slot + 3], plan)
+            n, _, low, high, *_ = stats[i]
+            start[i] = sketch_pass.starts(int(n), plan, sketch[i], float(low), float(high))
+        parts = [p for i in binned for p in sketch_pass.histogram_parts(f"c{i}__", start[i], d)]
+        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        out = {}
+        for slot, i in enumerate(binned):
+            rows, events = answer[2 * slot], answer[2 * slot + 1]
+            x, t, e = sketch_pass.read_bins(rows, events, start[i], sketch[i], plan)
+            gap = sketch_pass.smallest_gap(sketch[i])
+            out[i] = (x, t, e, gap, sketch[i].grid)
         return out
 
     def _binned_counts(

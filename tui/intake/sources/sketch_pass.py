@@ -1,0 +1,130 @@
+"""DuckDB's approximate reduction of binned columns on large inputs: two scans for all of
+them, instead of one sort and one join per column (``sorted_pass.py``, ``bin_join.py``).
+
+1. One statement over every binned column: ``approx_quantile`` (DuckDB's T-digest) at the
+   quantile grid, and the exact ``TAIL_ROWS + 1`` lowest and ``TAIL_ROWS`` highest values
+   (``min(x, k)`` / ``max(x, k)``). The grid stands for the quantile function: the
+   equal-count cuts are read off it, so they sit where a file scan cuts up to the
+   sketch's rank error; the tails, the equal-width cuts and the range are exact.
+2. One statement of ``histogram(x, boundaries)`` per column, plain and with
+   ``FILTER (WHERE y__ = 1)``: rows and events per bin, exact for those bins.
+
+A bin's representative x (a file scan uses its mean) is the mean of the sketched quantile
+function over the bin's exact share of rows, kept inside the bin; a tail bin holds one
+value, which is its x. The smallest gap is the smallest step among the lowest rows (it
+only places the shift before a log, ``tui.engine.forms.shift``), the distinct count is the
+profile's ``approx_count_distinct``. Scores differ from the file scan's by the measured
+error (benchmarks/duckdb_speed.py; tests/test_duckdb_sketch_pass.py).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from tui.intake.sources import bins
+from tui.intake.sources.base import BinPlan
+from tui.intake.sources.dialect import Dialect
+
+MEAN_POINTS = 16
+"""Points of the quantile function averaged per bin for its x."""
+
+
+@dataclass(frozen=True)
+class Sketch:
+    """What the first scan gives for one binned column."""
+
+    grid: np.ndarray
+    """Approximate quantiles at linspace(0, 1, plan.grid)."""
+    lowest: np.ndarray
+    """The ``tail_rows + 1`` smallest values, ascending (exact)."""
+    highest: np.ndarray
+    """The ``tail_rows`` largest values, ascending (exact)."""
+
+
+def _listed(values: np.ndarray, d: Dialect) -> str:
+    return "[" + ", ".join(d.number(float(v)) for v in values) + "]::DOUBLE[]"
+
+
+def sketch_parts(column: str, plan: BinPlan, d: Dialect) -> list[str]:
+    """The first scan's three aggregates of one column."""
+    # DuckDB takes the fractions as FLOAT: they are positions, not values.
+    probs = "[" + ", ".join(repr(float(p)) for p in np.linspace(0.0, 1.0, plan.grid)) + "]"
+    return [
+        f"approx_quantile({column}, {probs}::FLOAT[])",
+        f"min({column}, {plan.tail_rows + 1})",
+        f"max({column}, {plan.tail_rows})",
+    ]
+
+
+def read_sketch(answer: tuple, plan: BinPlan) -> Sketch:
+    """A column's three answers (in ``sketch_parts`` order) as a Sketch."""
+    grid, low, high = answer
+    grid = np.maximum.accumulate(np.asarray(grid, dtype=float))  # quantiles never fall
+    lowest, highest = (np.sort(np.asarray(v, dtype=float)) for v in (low, high))
+    return Sketch(grid, lowest, highest)
+
+
+def starts(n: int, plan: BinPlan, sketch: Sketch, low: float, high: float) -> np.ndarray:
+    """Every bin start, ascending: one per tail value, and the file scan's cuts between
+    the tails with the equal-count ones read off the sketched grid."""
+    probs = np.linspace(0.0, 1.0, plan.grid)
+    at = np.interp(bins.positions(n, plan)[:-2] / max(n - 1, 1), probs, sketch.grid)
+    low_tail, high_tail = float(sketch.lowest[-1]), float(sketch.highest[0])
+    cut = bins.cuts(n, plan, np.r_[at, low_tail, high_tail], low, high)
+    inner = cut.edges[(cut.edges >= low_tail) & (cut.edges <= high_tail)]
+    tails = np.r_[sketch.lowest[sketch.lowest < low_tail], sketch.highest]
+    return np.unique(np.r_[low, tails, inner])
+
+
+def boundaries(start: np.ndarray) -> np.ndarray:
+    """``histogram`` counts x <= boundary above the previous one: bin [s_k, s_k+1) ends at
+    the double just below s_k+1; the last bin ends at the maximum (its own start)."""
+    return np.r_[np.nextafter(start[1:], -np.inf), start[-1]]
+
+
+def histogram_parts(column: str, start: np.ndarray, d: Dialect) -> list[str]:
+    """The second scan's two aggregates of one column: rows and events per bin."""
+    edges = _listed(boundaries(start), d)
+    return [
+        f"histogram({column}, {edges})",
+        f"histogram({column}, {edges}) FILTER (WHERE y__ = 1)",
+    ]
+
+
+def read_bins(
+    rows: dict | None,
+    events: dict | None,
+    start: np.ndarray,
+    sketch: Sketch,
+    plan: BinPlan,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(x, rows, events) of the non-empty bins, from the two histograms."""
+    ends = boundaries(start)
+    rows, events = rows or {}, events or {}
+    t = np.array([float(rows.get(float(b), 0)) for b in ends])
+    e = np.array([float(events.get(float(b), 0)) for b in ends])
+    if t.sum() != sum(float(v) for v in rows.values()):  # every row must land in a bin
+        raise RuntimeError("histogram answered boundaries it was not given")
+    n = t.sum()
+    before = np.r_[0.0, np.cumsum(t)[:-1]] / max(n, 1.0)
+    after = np.cumsum(t) / max(n, 1.0)
+    probs = np.linspace(0.0, 1.0, plan.grid)
+    mid = (np.arange(MEAN_POINTS) + 0.5) / MEAN_POINTS
+    p = before[:, None] + (after - before)[:, None] * mid[None, :]
+    q = np.interp(p, probs, sketch.grid)
+    x = np.clip(q, start[:, None], ends[:, None]).mean(axis=1)
+    tail = (start < sketch.lowest[-1]) | (start >= sketch.highest[0])
+    x[tail] = start[tail]  # a tail bin holds one value
+    kept = t > 0
+    return x[kept], t[kept], e[kept]
+
+
+def smallest_gap(sketch: Sketch) -> float | None:
+    """Smallest positive step among the lowest rows (else the highest, else the grid)."""
+    for values in (sketch.lowest, sketch.highest, sketch.grid):
+        steps = np.diff(np.unique(values))
+        if steps.size:
+            return float(steps.min())
+    return None

@@ -8,12 +8,18 @@ largest resident set of one process and peak summed PSS of the process tree. The
 load (``pd.read_parquet`` / ``pd.read_csv``, nothing else) runs right before the scan of
 the same file, with the load average printed beside every figure: the machine is shared.
 ``--per-query`` also prints the time of every statement the reduction sends to DuckDB.
+From 2,000,000 rows the DuckDB scan sketches binned columns (approximate quantiles,
+``tui/intake/sources/sketch_pass.py``); ``--error`` also runs the file scan (numpy/pandas,
+exact bins) of the Parquet file and prints how far each score of each DuckDB scan lies from
+it, and whether the ranking is the same.
 """
 
 from __future__ import annotations
 
 import argparse
+import json
 import os
+import shlex
 import sys
 import time
 from pathlib import Path
@@ -64,12 +70,39 @@ def _pandas_load(path: Path) -> list[str]:
     return [sys.executable, "-c", code]
 
 
-def _scan(path: Path) -> list[str]:
-    return [sys.executable, "-m", "tui", "scan", str(path), "--outcome", OUTCOME,
-            "--engine", "duckdb", "--format", "json"]  # fmt: skip
+def _scan(path: Path, out: Path, engine: bool = True) -> list[str]:
+    """The scan, its JSON written to ``out`` (a shell around it, counted in the tree)."""
+    scan = [sys.executable, "-m", "tui", "scan", str(path), "--outcome", OUTCOME,
+            "--format", "json"] + (["--engine", "duckdb"] if engine else [])  # fmt: skip
+    return ["sh", "-c", f"{shlex.join(scan)} > {shlex.quote(str(out))}"]
 
 
-def compare(path: Path) -> tuple[Measured, Measured]:
+def score_error(got: Path, want: Path) -> None:
+    """Per column, the DuckDB scan's score against the file scan's; then the largest."""
+    a = {r["column"]: r for r in json.loads(got.read_text())}
+    b = {r["column"]: r for r in json.loads(want.read_text())}
+    worst_rel = worst_abs = 0.0
+    for name, ref in b.items():
+        x, y = a[name]["score"], ref["score"]
+        if x is None or y is None:
+            print(f"    {name:<18} score {x} vs {y}")
+            continue
+        rel = abs(x - y) / max(abs(y), 1e-12)
+        worst_rel, worst_abs = max(worst_rel, rel), max(worst_abs, abs(x - y))
+        print(f"    {name:<18} {x:14.3f} vs file {y:14.3f}  abs {abs(x - y):9.4f}  rel {rel:.2e}")
+    same = [r["column"] for r in json.loads(got.read_text())] == list(b)
+    within = all(
+        a[n]["score"] is not None
+        and abs(a[n]["score"] - r["score"]) <= max(0.5, 0.02 * abs(r["score"]))
+        for n, r in b.items()
+        if r["score"] is not None
+    )
+    print(f"  score error: largest rel {worst_rel:.2e}, largest abs {worst_abs:.4f}; "
+          f"ranking {'same' if same else 'DIFFERENT'}; "
+          f"{'within' if within else 'OUTSIDE'} 2% or 0.5")  # fmt: skip
+
+
+def compare(path: Path, out: Path) -> tuple[Measured, Measured]:
     """The pandas load, then the DuckDB scan of the same file, one right after the other."""
     env = {**os.environ, "PYTHONPATH": str(REPO)}
     kind = path.suffix.lstrip(".")
@@ -77,7 +110,7 @@ def compare(path: Path) -> tuple[Measured, Measured]:
     print(f"  start: {_load()}")
     loaded = run_measured(_pandas_load(path), env)
     print(f"  pandas load:          {_shown(loaded)}; {_load()}")
-    scanned = run_measured(_scan(path), env)
+    scanned = run_measured(_scan(path, out), env)
     if scanned.returncode != 0:
         raise SystemExit(f"bendwise scan failed with status {scanned.returncode}")
     print(f"  bendwise scan duckdb: {_shown(scanned)}; {_load()}")
@@ -124,14 +157,24 @@ def main() -> None:
     parser.add_argument("--only", choices=("parquet", "csv"), help="one format")
     parser.add_argument("--per-query", action="store_true", help="time every statement")
     parser.add_argument("--results", type=Path, help="results file (default in results/)")
+    parser.add_argument("--error", action="store_true",
+                        help="scores against the file scan of the Parquet file")  # fmt: skip
     args = parser.parse_args()
     with recorded("duckdb_speed", args.results):
         print(f"{args.rows:,} rows x {args.cols} columns, invented extract; {_load()}")
         parquet, csv = write_data(args.data, args.rows, args.cols)
+        reference = args.data / f"file_scan_{parquet.stem}.json"
+        if args.error:
+            env = {**os.environ, "PYTHONPATH": str(REPO)}
+            filed = run_measured(_scan(parquet, reference, engine=False), env)
+            print(f"file scan (numpy/pandas) of {parquet.name}: {_shown(filed)}; {_load()}")
         for path in (parquet, csv):
             if args.only and path.suffix.lstrip(".") != args.only:
                 continue
-            compare(path)
+            out = args.data / f"duckdb_scan_{path.name}.json"
+            compare(path, out)
+            if args.error:
+                score_error(out, reference)
             if args.per_query:
                 per_query(path)
 

@@ -11,7 +11,8 @@
    bins one column a query (DuckDB by an ASOF join, ``bin_join.py``); Spark takes the
    quantiles from sketches, a few columns a query, and counts bins, gaps and distinct
    values one column a query over the bin numbers its ``Bucketizer`` finds
-   (``bucket_pass.py``).
+   (``bucket_pass.py``). DuckDB from ``sketch_from`` rows on: two scans for all binned
+   columns, approximate quantiles and exact bin counts (``sketch_pass.py``).
 
 Every answer is per column, per distinct value or per bin; no row leaves the engine.
 """
@@ -316,12 +317,16 @@ class SqlReduction:
             sketch[i] = sketch_pass.read_sketch(answer[3 * slot : 3 * slot + 3], plan)
             n, _, low, high, *_ = stats[i]
             start[i] = sketch_pass.starts(int(n), plan, sketch[i], float(low), float(high))
-        parts = [p for i in binned for p in sketch_pass.histogram_parts(f"c{i}__", start[i], d)]
+        parts = [
+            p
+            for i in binned
+            for p in sketch_pass.histogram_parts(f"c{i}__", start[i], sketch[i], d)
+        ]
         answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
         out = {}
         for slot, i in enumerate(binned):
             rows, events = answer[2 * slot], answer[2 * slot + 1]
-            x, t, e = sketch_pass.read_bins(rows, events, start[i], sketch[i], plan)
+            x, t, e = sketch_pass.read_bins(rows, events, start[i], sketch[i])
             gap = sketch_pass.smallest_gap(sketch[i])
             out[i] = (x, t, e, gap, sketch[i].grid)
         return out

@@ -15,7 +15,9 @@ boundary at each piece's end); a tail bin holds one value, which is its x. The s
 gap is the smallest step among the lowest rows (it only places the shift before a log,
 ``tui.engine.forms.shift``); the distinct count is the profile's approx_count_distinct.
 Scores differ from the file scan's by the error measured in benchmarks/duckdb_speed.py
-(``--error``) and tests/test_duckdb_sketch_pass.py.
+(``--error``) and tests/test_duckdb_sketch_pass.py; the tolerance promised is 2% relative
+or 0.5 absolute per score with the same ranking. On 10,000,000 x 20 (invented): largest
+error 22.2 on a score of 4,985 (0.45%), scores under 10 within 0.015, ranking the same.
 """
 
 from __future__ import annotations

@@ -33,7 +33,7 @@ MEMORY_LIMIT = "500MB"
 the scan the process stays under 1 GB on 10,000,000 x 20 (benchmarks/duckdb_speed.py)."""
 SKETCH_FROM_ROWS = 2_000_000
 """From this many rows with an outcome, binned columns take the approximate two-scan path
-(``sketch_pass.py``): 10,000,000 x 20 Parquet in 60 s instead of 111 s (2 cores, load 2
+(``sketch_pass.py``): 10,000,000 x 20 Parquet in 56 s instead of 111 s (2 cores, load 2
 and 3; benchmarks/results/duckdb_speed.md), where an exact sort per column costs seconds;
 below it the exact passes stay, and all of the source tests check those to 1e-9."""
 STAGED = "bendwise_staged"

@@ -310,19 +310,28 @@ class SqlReduction:
     ) -> dict[int, tuple]:
         """Binned columns by two scans for all of them (``sketch_pass.py``)."""
         d = self.dialect
-        parts = [p for i in binned for p in sketch_pass.sketch_parts(f"c{i}__", plan, d)]
-        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        step = sketch_pass.COLUMNS_PER_QUERY
+        answer: list[Any] = []
+        for at in range(0, len(binned), step):
+            parts = [
+                p
+                for i in binned[at : at + step]
+                for p in sketch_pass.sketch_parts(f"c{i}__", plan, d)
+            ]
+            answer += list(self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0])
         sketch, start = {}, {}
         for slot, i in enumerate(binned):
             sketch[i] = sketch_pass.read_sketch(answer[3 * slot : 3 * slot + 3], plan)
             n, _, low, high, *_ = stats[i]
             start[i] = sketch_pass.starts(int(n), plan, sketch[i], float(low), float(high))
-        parts = [
-            p
-            for i in binned
-            for p in sketch_pass.histogram_parts(f"c{i}__", start[i], sketch[i], d)
-        ]
-        answer = self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0]
+        answer = []
+        for at in range(0, len(binned), step):
+            parts = [
+                p
+                for i in binned[at : at + step]
+                for p in sketch_pass.histogram_parts(f"c{i}__", start[i], sketch[i], d)
+            ]
+            answer += list(self.run(f"{base}SELECT {', '.join(parts)} FROM b")[0])
         out = {}
         for slot, i in enumerate(binned):
             rows, events = answer[2 * slot], answer[2 * slot + 1]

@@ -1,12 +1,13 @@
 """DuckDB's approximate reduction of binned columns on large inputs: two scans for all of
 them, instead of one sort and one join per column (``sorted_pass.py``, ``bin_join.py``).
 
-1. One statement over every binned column: ``approx_quantile`` (DuckDB's T-digest) at the
-   quantile grid, and the exact ``TAIL_ROWS + 1`` lowest and ``TAIL_ROWS`` highest values
-   (``min(x, k)`` / ``max(x, k)``). The grid stands for the quantile function: the
-   equal-count cuts are read off it, so they sit where a file scan cuts up to the
-   sketch's rank error; the tails, the equal-width cuts and the range are exact.
-2. One statement of ``histogram(x, boundaries)`` per column, plain and with
+1. Statements over every binned column (``COLUMNS_PER_QUERY`` a statement):
+   ``approx_quantile`` (DuckDB's T-digest) at the quantile grid, and the exact
+   ``TAIL_ROWS + 1`` lowest and ``TAIL_ROWS`` highest values (``min(x, k)`` /
+   ``max(x, k)``). The grid stands for the quantile function: the equal-count cuts are
+   read off it, so they sit where a file scan cuts up to the sketch's rank error; the
+   tails, the equal-width cuts and the range are exact.
+2. As many statements of ``histogram(x, boundaries)``, plain and with
    ``FILTER (WHERE y__ = 1)``: rows and events per bin, exact for those bins.
 
 A bin's representative x (a file scan uses its mean) is the mean of the midpoints of its
@@ -16,8 +17,9 @@ gap is the smallest step among the lowest rows (it only places the shift before 
 ``tui.engine.forms.shift``); the distinct count is the profile's approx_count_distinct.
 Scores differ from the file scan's by the error measured in benchmarks/duckdb_speed.py
 (``--error``) and tests/test_duckdb_sketch_pass.py; the tolerance promised is 2% relative
-or 0.5 absolute per score with the same ranking. On 10,000,000 x 20 (invented): largest
-error 22.2 on a score of 4,985 (0.45%), scores under 10 within 0.015, ranking the same.
+or 0.5 absolute per score with the same ranking. On 10,000,000 x 20 (invented), five
+runs: largest error 22.2 on a score of 4,985 (0.45%), scores under 10 within 0.03, ranking
+the same; the sketch varies a little run to run (DuckDB merges it across threads).
 """
 
 from __future__ import annotations
@@ -30,6 +32,9 @@ from tui.intake.sources import bins
 from tui.intake.sources.base import BinPlan
 from tui.intake.sources.dialect import Dialect
 
+COLUMNS_PER_QUERY = 4
+"""Columns a statement: 16 binned columns' boundary lists in one statement took DuckDB's
+process to 1,168 MiB (CSV, 10,000,000 rows); the scans themselves cost per column."""
 PIECES = 8
 """Equal-width pieces per bin whose rows place the bin's x (its mean up to 1/16 of the
 bin's width; midpoints of the sketched quantile function put one skewed column's score

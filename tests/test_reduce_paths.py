@@ -108,7 +108,7 @@ def test_many_whole_numbers_are_binned_like_any_column(rng):
 
 @pytest.mark.parametrize("share", SHARES)
 @pytest.mark.parametrize("kind", ["continuous", "signed-ties", "few"])
-def test_sorted_by_class_is_one_sort_of_every_row(rng, share, kind):
+def test_sorted_by_class_gives_every_row_and_the_smaller_class_sorted(rng, share, kind):
     n = 20_000
     x = COLUMNS[kind](rng, n)
     event = rng.random(n) < share

@@ -9,11 +9,11 @@ counts), half equal steps across the range (so that the tails of a skewed column
 lumped into a few wide bins). Knots and cut points still come from quantiles of every row.
 
 Whole numbers over a short range (counts, scores, ages) are counted per value with one
-bincount, no sort at all. Other columns sort the rows of the smaller outcome class and,
-when that class is not small, the rows of the larger one, then merge the two sorted runs
-(a merge of two runs costs a tenth of a sort): one sort's work in all, not a sort of every
-row plus a sort of the event rows. Rows and events per value or per bin are then positions
-in sorted arrays, so no row-level index is ever built.
+bincount, no sort at all. Other columns sort every row and the rows of the smaller outcome
+class with numpy's default sort (vectorised on current CPUs: a million doubles in about
+15 ms; sorting each class and merging the runs with the stable sort took about twice as
+long). Rows and events per value or per bin are then positions in sorted arrays, so no
+row-level index is ever built.
 """
 
 from __future__ import annotations
@@ -177,9 +177,12 @@ def rows_with_covariates(
 
 def smallest_gap(xs: np.ndarray) -> float | None:
     """Smallest positive step in ascending ``xs`` (None when there is none)."""
-    steps = np.diff(xs)
-    steps = steps[steps > 0]
-    return float(steps.min()) if steps.size else None
+    if xs.size < 2:
+        return None
+    steps = xs[1:] - xs[:-1]
+    # A masked minimum: no copy of the positive steps (a million-row column's is 8 MB).
+    least = float(np.min(steps, where=steps > 0, initial=np.inf))
+    return least if np.isfinite(least) else None
 
 
 def weighted_type7_quantile(
@@ -341,10 +344,6 @@ def _reduce_binary(
 LATTICE_SPAN = 1 << 16
 """Whole-number columns whose largest value exceeds the smallest by at most this are
 counted per value with a bincount (as many slots as the span; no sort)."""
-MERGE_SHARE = 0.125
-"""Above this share of rows in the smaller outcome class, sorting each class and merging
-the two runs beats sorting every row and then the smaller class again (benchmarked:
-a merge of two sorted runs of a million values costs about 8 ms, a sort about 90 ms)."""
 
 
 def _whole_number_counts(
@@ -378,12 +377,9 @@ def _sorted_by_class(x: np.ndarray, event: np.ndarray) -> tuple[np.ndarray, np.n
     events = int(np.count_nonzero(event))
     minority_events = events <= x.size - events
     minority = event if minority_events else ~event
-    xm = np.sort(x[minority])
-    if xm.size <= MERGE_SHARE * x.size:
-        return np.sort(x), xm, minority_events
-    # numpy's stable sort finds the two ascending runs and merges them in one pass.
-    merged = np.sort(np.concatenate([xm, np.sort(x[~minority])]), kind="stable")
-    return merged, xm, minority_events
+    # The default (vectorised) sort: sorting the two classes and merging them with the
+    # stable sort cost more than sorting every row again (numpy 2.4, AVX-512).
+    return np.sort(x), np.sort(x[minority]), minority_events
 
 
 def _reduce_general(

@@ -3,21 +3,24 @@
 from __future__ import annotations
 
 import argparse
+import importlib
 import sys
 from collections.abc import Sequence
 
 from tui import __version__
-from tui.cli import (
-    check_cmd,
-    diff_cmd,
-    forms_cmd,
-    replay_cmd,
-    report_cmd,
-    review_cmd,
-    scan_cmd,
-    sql_cmd,
-)
 from tui.problems import InputProblem
+
+COMMANDS = {
+    "scan": "scan_cmd",
+    "review": "review_cmd",
+    "replay": "replay_cmd",
+    "sql": "sql_cmd",
+    "report": "report_cmd",
+    "diff": "diff_cmd",
+    "forms": "forms_cmd",
+    "check": "check_cmd",
+}
+"""Sub-commands in the order of the help text, and the module of each."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -28,7 +31,9 @@ class _Parser(argparse.ArgumentParser):
         sys.exit(2)
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """The whole parser, or (``only``) one sub-command's: a run imports only what its
+    command needs (the others' modules pull in the app, the report and the replay)."""
     parser = _Parser(
         prog="bendwise",
         description="Rank numeric predictors by evidence of non-linearity on the log-odds "
@@ -36,20 +41,17 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"bendwise {__version__}")
     commands = parser.add_subparsers(dest="command", required=True, parser_class=_Parser)
-    scan_cmd.add_parser(commands)
-    review_cmd.add_parser(commands)
-    replay_cmd.add_parser(commands)
-    sql_cmd.add_parser(commands)
-    report_cmd.add_parser(commands)
-    diff_cmd.add_parser(commands)
-    forms_cmd.add_parser(commands)
-    check_cmd.add_parser(commands)
+    for name, module in COMMANDS.items():
+        if only is None or name == only:
+            importlib.import_module(f"tui.cli.{module}").add_parser(commands)
     return parser
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point; returns the exit code."""
-    args = build_parser().parse_args(argv)
+    argv = list(sys.argv[1:] if argv is None else argv)
+    only = argv[0] if argv and argv[0] in COMMANDS else None
+    args = build_parser(only).parse_args(argv)
     try:
         return int(args.run(args) or 0)
     except InputProblem as problem:

@@ -235,7 +235,12 @@ def chord(
             return beta + step, _loglik_down(eta, down, events, trials) + gain
         beta = beta + step
         np.dot(beta[:c], top, out=eta)
-        eta += beta[c:] @ low
+        # The form's share into a kept buffer (``down`` is free until the next step).
+        if low.shape[0] == 1:
+            np.multiply(low[0], beta[c], out=down)
+        else:
+            np.dot(beta[c:], low, out=down)
+        eta += down
         previous = moved
     return beta, None
 

@@ -36,8 +36,10 @@ def fp_power(z: np.ndarray, p: float) -> np.ndarray:
     """z^p with p = 0 meaning ln z; missing where z ≤ 0."""
     if p == 0:
         return safe_log(z)
-    out = np.full(z.shape, np.nan)
     pos = z > 0
+    if pos.all():  # the usual case on training data: no masked copy
+        return np.power(z, p)
+    out = np.full(z.shape, np.nan)
     out[pos] = np.power(z[pos], p)
     return out
 

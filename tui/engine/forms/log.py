@@ -27,8 +27,10 @@ def shifted_sql(x: str, shift: float) -> str:
 
 def safe_log(z: np.ndarray) -> np.ndarray:
     """ln z, missing where z ≤ 0 (new data below the training range)."""
-    out = np.full(z.shape, np.nan)
     pos = z > 0
+    if pos.all():  # the usual case on training data: no masked copy
+        return np.log(z)
+    out = np.full(z.shape, np.nan)
     out[pos] = np.log(z[pos])
     return out
 

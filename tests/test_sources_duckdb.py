@@ -8,6 +8,7 @@ from __future__ import annotations
 import hashlib
 
 import duckdb
+import numpy as np
 import pandas as pd
 import pytest
 from conftest import SAMPLE
@@ -113,3 +114,26 @@ def test_refusals_are_one_line(cohort_duckdb, capsys, extra, words):
 def test_table_option_on_a_plain_file_is_refused(capsys):
     assert main(["scan", str(COHORT), "--outcome", OUTCOME, "--table", "cohort"]) == 2
     assert "--table and --query go with a database" in capsys.readouterr().err
+
+
+def test_csv_column_led_by_infinities_is_scanned_like_the_file(tmp_path, capsys):
+    # DuckDB's CSV sniffer types a column whose first values are "inf" as text; the file
+    # scan reads them as infinite numbers (pandas' parser, as most CSV readers do) and
+    # counts them as non-finite. Through DuckDB the column must be scanned the same way.
+    rng = np.random.default_rng(11)
+    n = 3_000
+    x = rng.normal(50, 10, n)
+    y = (rng.random(n) < 1 / (1 + np.exp(-(x - 50) / 8))).astype(int)
+    spike = rng.gamma(2.0, 3.0, n).astype(object)
+    spike[:30] = "inf"
+    spike[rng.choice(np.arange(30, n), 10, replace=False)] = "-inf"
+    path = tmp_path / "spikes.csv"
+    pd.DataFrame({"y": y, "x": x, "spike": spike}).to_csv(path, index=False)
+    before = path.read_bytes()
+    want = scan_json(capsys, str(path), "--outcome", "y")
+    got = scan_json(capsys, str(path), "--outcome", "y", "--engine", "duckdb")
+    assert_same_scan(got, want)
+    row = next(r for r in got if r["column"] == "spike")
+    assert row["score"] is not None and row["n"] == n - 40
+    assert "non-finite" in row["flags"]
+    assert path.read_bytes() == before  # the input is never modified

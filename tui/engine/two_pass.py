@@ -131,6 +131,7 @@ class TwoPassScan:
         else:
             executor = ProcessPoolExecutor(self._workers, context, initializer=_quiet_worker)
         limit = AHEAD_PER_WORKER * self._workers
+        finished = False
         try:
             pending: dict[Future[tuple[ColumnScan, ReducedColumn | None]], str] = {}
             names = iter(self.columns)
@@ -159,8 +160,9 @@ class TwoPassScan:
                         self._order(scored)
                     yield ScanStep("score", kept, len(scored), total)
             yield from self._second_on(executor, limit)
+            finished = True
         finally:
-            executor.shutdown(wait=False, cancel_futures=True)
+            _shut(executor, finished)
 
     def _first_here_then_workers(self, context: BaseContext) -> Iterator[ScanStep]:
         """First pass in this thread; second pass on workers started meanwhile."""
@@ -168,11 +170,13 @@ class TwoPassScan:
         # The workers start during the first pass. Starting the first one waits for a
         # fork server to boot (seconds on a busy machine): a helper thread waits instead.
         threading.Thread(target=_start, args=(executor, self._workers), daemon=True).start()
+        finished = False
         try:
             yield from self._first_in_thread()
             yield from self._second_on(executor, AHEAD_PER_WORKER * self._workers)
+            finished = True
         finally:
-            executor.shutdown(wait=False, cancel_futures=True)
+            _shut(executor, finished)
 
     def _first_in_thread(self) -> Iterator[ScanStep]:
         """The first pass in this thread: read, reduce and score each column."""
@@ -253,6 +257,15 @@ def _needs_forms(reduced: ReducedColumn, first: ColumnScan) -> bool:
         or counts.total_events == 0
         or counts.total_events == counts.rows
     )
+
+
+def _shut(executor: ProcessPoolExecutor, finished: bool) -> None:
+    """Stop the workers. A finished scan waits for them (nothing is left, so at once): an
+    executor shut without waiting can race the interpreter's exit (concurrent.futures'
+    exit hook wakes a pipe its thread has closed; seen here on CPython 3.11 as an
+    "Exception ignored ... Bad file descriptor" traceback after a finished scan). A scan
+    closed early (the user quit) does not wait for the columns still being fitted."""
+    executor.shutdown(wait=finished, cancel_futures=True)
 
 
 def _ready() -> None:

@@ -108,7 +108,30 @@ class DuckDBSource(ReducedInEngine):
         if staged is None:
             return relation
         self._run(f"CREATE TABLE {STAGED} AS SELECT * FROM {staged}")
+        self._numbers_from_text()
         return STAGED
+
+    def _numbers_from_text(self) -> None:
+        """Text columns of the staged CSV whose every value is a number become DOUBLE.
+
+        DuckDB's CSV sniffer reads ``inf`` and ``-inf`` as text, where the file scan (and
+        pandas) read them as infinite numbers: such a column would be left out instead of
+        scanned with its non-finite values counted."""
+        d = self.dialect
+        text = [r[0] for r in self._run(f"DESCRIBE {STAGED}") if r[1].upper() == "VARCHAR"]
+        if not text:
+            return
+        checks = ", ".join(
+            f"count({d.quote(c)}) FILTER (WHERE TRY_CAST({d.quote(c)} AS DOUBLE) IS NULL)"
+            for c in text
+        )
+        failed = self._run(f"SELECT {checks} FROM {STAGED}")[0]
+        for column, bad in zip(text, failed, strict=True):
+            if bad == 0:
+                name = d.quote(column)
+                self._run(
+                    f"ALTER TABLE {STAGED} ALTER {name} TYPE DOUBLE USING CAST({name} AS DOUBLE)"
+                )
 
     def _run(self, sql: str) -> list[tuple[Any, ...]]:
         try:

@@ -66,3 +66,20 @@ def test_command_line_starts_without_scipy_or_statsmodels():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
+
+
+def test_scan_parser_loads_neither_the_app_nor_the_report():
+    # A scan's start-up imports only its own command: the report (and, inside its run, the
+    # review app) belong to their commands; --help, listing every command, loads the report.
+    code = (
+        "import sys, tui.cli.main as m\n"
+        "heavy = {'textual', 'tui.app', 'tui.report'}\n"
+        "m.build_parser('scan')\n"
+        "print('scan:', sorted(heavy & set(sys.modules)))\n"
+        "m.build_parser()\n"
+        "print('all:', sorted(heavy & set(sys.modules)))"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    scan, every = out.stdout.splitlines()
+    assert scan == "scan: []"
+    assert "tui.report" in every

@@ -128,7 +128,7 @@ class TriageScreen(Screen[None]):
         self._redraw_cost = 0.0  # seconds the last redraw took
         self._decided_words = ("", "")  # the summary's counts: in full, and non-zero only
         self._summary_tail: list[str] = []
-        self._known: Known | None = None  # what a re-sort or a filter redraws with
+        self._known: tuple[tuple, Known] | None = None  # and what it was read from
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -234,14 +234,21 @@ class TriageScreen(Screen[None]):
 
     # --- drawing --------------------------------------------------------------------------
 
-    def _know(self) -> Known:
-        """What the list shows besides its order, read from the session."""
+    def _known_now(self) -> Known:
+        """What the list shows besides its order, read again only when the log, the
+        results or the model changed (a re-sort or a filter changes none of them, and
+        reading them took a third of a re-sort's time at 2,000 columns). The log and the
+        list of results are replaced, never changed in place, on every change."""
         s = self.session
+        source = (s.book.log, s.ranked, s.scan_finished, s.model)
+        kept = self._known
+        if kept is not None and all(a is b for a, b in zip(kept[0], source, strict=True)):
+            return kept[1]
         words = s.decision_words()
         counts = s.counts()
         decided = f"{counts.decided} of {len(s.columns)} decided"
         short = counts.short_words()
-        return Known(
+        known = Known(
             words,
             {c for c, word in words.items() if word != UNDECIDED},
             any(r.adjusted_for for r in s.ranked),
@@ -250,16 +257,14 @@ class TriageScreen(Screen[None]):
             f"scores {statistics_word(r.statistic for r in s.ranked)}",
             self._model_hint(),
         )
+        self._known = (source, known)
+        return known
 
-    def redraw(self, changed: bool = True) -> None:
-        """Rebuild the list from the session. ``changed=False``: only the order, the
-        filter or the hiding changed, so the decisions, counts and hints are those read
-        last (reading them again took a third of a re-sort's time at 2,000 columns)."""
+    def redraw(self) -> None:
+        """Rebuild the list from the session."""
         started = time.perf_counter()
         s = self.session
-        if changed or self._known is None:
-            self._known = self._know()
-        known = self._known
+        known = self._known_now()
         hide = known.decided if self.hide_decided else set()
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
         self.view.order = [r.column for r in rows]
@@ -378,13 +383,13 @@ class TriageScreen(Screen[None]):
     def action_cycle_sort(self) -> None:
         """Step to the next order of the list."""
         self.sort = SORTS[(SORTS.index(self.sort) + 1) % len(SORTS)]
-        self.redraw(changed=False)
+        self.redraw()
         tell(self, f"sorted by {self.sort}", timeout=1)  # the summary line says it too
 
     def action_toggle_decided(self) -> None:
         """Hide or show the columns that already have a decision."""
         self.hide_decided = not self.hide_decided
-        self.redraw(changed=False)
+        self.redraw()
 
     def action_filter(self) -> None:
         """Type part of a name to narrow the list."""
@@ -401,13 +406,13 @@ class TriageScreen(Screen[None]):
         box.display = False
         self._filter = ""
         self.query_one(TriageTable).focus()
-        self.redraw(changed=False)
+        self.redraw()
 
     def on_input_changed(self, event: Input.Changed) -> None:
         text = event.value.strip()
         if text != self._filter:  # clearing the box empties it: one redraw, not two
             self._filter = text
-            self.redraw(changed=False)
+            self.redraw()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         if not event.value.strip():

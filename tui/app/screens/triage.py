@@ -376,8 +376,8 @@ class TriageScreen(Screen[None]):
             self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)
 
     def _back(self, column: str | None) -> None:
+        # The list is redrawn as the screen resumes (on_screen_resume): only the cursor.
         self._follow_top = False
-        self.redraw()
         self.query_one(TriageTable).move_to_key(column)
 
     def action_cycle_sort(self) -> None:
@@ -402,7 +402,8 @@ class TriageScreen(Screen[None]):
     def action_clear_filter(self) -> None:
         """Drop the name filter."""
         box = self.query_one("#filter", Input)
-        box.value = ""
+        with box.prevent(Input.Changed):  # the list is redrawn here, once
+            box.value = ""
         box.display = False
         self._filter = ""
         self.query_one(TriageTable).focus()

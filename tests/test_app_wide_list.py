@@ -31,11 +31,16 @@ class Plain(KeyTable):
 
 
 class OneByOne(Plain):
-    """The same table, its rows added by DataTable's own add_row."""
+    """The same table, its rows added by DataTable's own add_row and re-sorted by its own
+    sort."""
 
     def _add_all(self, rows) -> None:  # noqa: ANN001
-        for key, cells in rows:
-            self.add_row(*cells, key=key)
+        for key, kept in rows:
+            self.add_row(*kept.cells, key=key)
+
+    def _reorder(self) -> None:
+        place = {key: i for i, (key, _) in enumerate(self._rows)}
+        self.sort(self._shown[0][0].key, key=lambda lead: place[lead.key])
 
 
 class Pair(App[None]):

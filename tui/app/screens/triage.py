@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import time
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 from textual import events, on
 from textual.app import ComposeResult
@@ -25,6 +26,7 @@ from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
 from tui.engine.score_words import statistics_word
+from tui.recodings.decisions import UNDECIDED
 from tui.table_rules import best_words
 
 SORTS = ("evidence", "name", "ΔAIC", "file order")
@@ -55,6 +57,24 @@ def arrange(
         position = {name: i for i, name in enumerate(file_order)}
         rows.sort(key=lambda s: position.get(s.column, len(position)))
     return rows
+
+
+@dataclass(frozen=True)
+class Known:
+    """What the list shows besides its order and filter, as read from the session."""
+
+    words: dict[str, str]
+    """Each column's decision word."""
+    decided: set[str]
+    """Columns with a decision."""
+    adjusted: bool
+    """Some score is adjusted."""
+    decided_words: tuple[str, str]
+    """The summary's decision counts: in full, and those not zero."""
+    scores: str
+    """Which statistic the scores are."""
+    hint: str
+    """The working-model keys, when they would do something."""
 
 
 class TriageScreen(Screen[None]):
@@ -108,6 +128,7 @@ class TriageScreen(Screen[None]):
         self._redraw_cost = 0.0  # seconds the last redraw took
         self._decided_words = ("", "")  # the summary's counts: in full, and non-zero only
         self._summary_tail: list[str] = []
+        self._known: tuple[tuple, Known] | None = None  # and what it was read from
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -213,39 +234,56 @@ class TriageScreen(Screen[None]):
 
     # --- drawing --------------------------------------------------------------------------
 
+    def _known_now(self) -> Known:
+        """What the list shows besides its order, read again only when the log, the
+        results or the model changed (a re-sort or a filter changes none of them, and
+        reading them took a third of a re-sort's time at 2,000 columns). The log and the
+        list of results are replaced, never changed in place, on every change."""
+        s = self.session
+        source = (s.book.log, s.ranked, s.scan_finished, s.model)
+        kept = self._known
+        if kept is not None and all(a is b for a, b in zip(kept[0], source, strict=True)):
+            return kept[1]
+        words = s.decision_words()
+        counts = s.counts()
+        decided = f"{counts.decided} of {len(s.columns)} decided"
+        short = counts.short_words()
+        known = Known(
+            words,
+            {c for c, word in words.items() if word != UNDECIDED},
+            any(r.adjusted_for for r in s.ranked),
+            (f"{decided}: {counts.words()}", f"{decided}: {short}" if short else decided),
+            # Which statistic the scores are (engine words): weights score by robust Wald.
+            f"scores {statistics_word(r.statistic for r in s.ranked)}",
+            self._model_hint(),
+        )
+        self._known = (source, known)
+        return known
+
     def redraw(self) -> None:
         """Rebuild the list from the session."""
         started = time.perf_counter()
         s = self.session
-        hide = {c for c in s.columns if s.is_decided(c)} if self.hide_decided else set()
+        known = self._known_now()
+        hide = known.decided if self.hide_decided else set()
         rows = arrange(s.ranked, self.sort, s.columns, self._filter, hide)
         self.view.order = [r.column for r in rows]
         table = self.query_one(TriageTable)
         table.hold_widths = self._rescoring
-        adjusted = any(r.adjusted_for for r in s.ranked)
-        table.show(rows, s.decision_words(), s.scan_finished, adjusted)
+        table.show(rows, known.words, s.scan_finished, known.adjusted)
         self.set_class(table.adjusted_shown, "-adjusted")
         if self._follow_top:
             table.move_to_key(None)
-        counts = s.counts()
-        decided = f"{counts.decided} of {len(s.columns)} decided"
-        short = counts.short_words()
-        self._decided_words = (
-            f"{decided}: {counts.words()}",
-            f"{decided}: {short}" if short else decided,
-        )
-        # Which statistic the scores are (engine words): survey weights score by robust Wald.
-        scores = f"scores {statistics_word(r.statistic for r in s.ranked)}"
-        parts = [scores, f"sorted by {self.sort}"]
+        self._decided_words = known.decided_words
+        parts = [known.scores, f"sorted by {self.sort}"]
         if self._filter:
             parts.append(f"names containing '{self._filter}'")
         if self.hide_decided:
             parts.append("decided hidden")
         if len(rows) < len(s.ranked):
             parts.append(f"showing {len(rows)}")
-        hint = self._model_hint()
-        if hint:
-            parts.append(hint)
+        if known.hint:
+            parts.append(known.hint)
         if s.weight:
             parts.append(f"weights {s.weight}")  # the kind is on the column screen
         self._summary_tail = parts
@@ -338,8 +376,8 @@ class TriageScreen(Screen[None]):
             self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)
 
     def _back(self, column: str | None) -> None:
+        # The list is redrawn as the screen resumes (on_screen_resume): only the cursor.
         self._follow_top = False
-        self.redraw()
         self.query_one(TriageTable).move_to_key(column)
 
     def action_cycle_sort(self) -> None:
@@ -364,7 +402,8 @@ class TriageScreen(Screen[None]):
     def action_clear_filter(self) -> None:
         """Drop the name filter."""
         box = self.query_one("#filter", Input)
-        box.value = ""
+        with box.prevent(Input.Changed):  # the list is redrawn here, once
+            box.value = ""
         box.display = False
         self._filter = ""
         self.query_one(TriageTable).focus()

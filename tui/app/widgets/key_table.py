@@ -105,8 +105,18 @@ class LeadCell:
         yield self.text
 
 
+@dataclass(eq=False)
+class Kept:
+    """A row's cells as cut from its fields, and the table's entries made from them (its
+    key, its cells by column, its row), so a refill puts back what was made before."""
+
+    fields: dict[str, str]
+    cells: tuple[object, ...]
+    entries: tuple[RowKey, dict, TableRow] | None = None
+
+
 KEPT_WIDTHS = 3
-"""Sets of column widths whose cells a table keeps (the whole list's and a filter's)."""
+"""Sets of columns and widths whose cells a table keeps (the whole list's and a filter's)."""
 
 
 class KeyTable(DataTable):
@@ -139,8 +149,11 @@ class KeyTable(DataTable):
         # from: a filter cleared or a list re-scored re-adds rows whose text has not
         # changed. A filtered list may have other widths (its longest numbers), so the
         # cells of the last few sets of widths are kept.
-        self._cells: dict[tuple[int, ...], dict[str, tuple[dict[str, str], tuple]]] = {}
+        self._cells: dict[tuple[int, ...], dict[str, Kept]] = {}
         self._longest_of: dict[str, int] | None = None  # of the rows shown, by field
+        # Each row's text lengths by field, with the fields they were measured from: a
+        # filter or a re-sort asks for the longest text of thousands of unchanged rows.
+        self._lengths: dict[str, tuple[dict[str, str], dict[str, int]]] = {}
 
     def on_resize(self, event: events.Resize) -> None:
         self._layout(event.size.width)
@@ -149,7 +162,8 @@ class KeyTable(DataTable):
         """Show these rows, keeping the cursor on the same key where possible."""
         same = len(rows) == len(self._rows) and dict(rows) == dict(self._rows)
         self._rows = list(rows)
-        self._longest_of = None
+        if not same:
+            self._longest_of = None
         if self._layout(self.size.width or 80):
             return
         key = self.highlighted_key()
@@ -160,8 +174,17 @@ class KeyTable(DataTable):
         self.move_to_key(key)
 
     def _reorder(self) -> None:
-        place = {key: i for i, (key, _) in enumerate(self._rows)}
-        self.sort(self._shown[0][0].key, key=lambda lead: place[lead.key])
+        """Give every row its new place at once (DataTable's ``sort`` sorts the rows'
+        cells to learn what is already known here)."""
+        if not hasattr(self, "_row_locations"):  # another Textual: its own sort
+            place = {key: i for i, (key, _) in enumerate(self._rows)}
+            self.sort(self._shown[0][0].key, key=lambda lead: place[lead.key])
+            return
+        keys = {key.value: key for key in self._data}
+        places = {keys[key]: i for i, (key, _) in enumerate(self._rows)}
+        self._row_locations = type(self._row_locations)(places)  # DataTable's two-way map
+        self._update_count += 1
+        self.refresh()
 
     def highlighted_key(self) -> str | None:
         """The key of the row under the cursor."""
@@ -215,37 +238,44 @@ class KeyTable(DataTable):
         once per set of rows: a resize or a re-layout asks again)."""
         if self._longest_of is None:
             longest: dict[str, int] = {}
-            for _, fields in self._rows:
-                for key, text in fields.items():
-                    if len(text) > longest.get(key, 0):
-                        longest[key] = len(text)
+            for key, fields in self._rows:
+                for field, length in self._lengths_of(key, fields).items():
+                    if length > longest.get(field, 0):
+                        longest[field] = length
             self._longest_of = longest
         return max(len(spec.header), self._longest_of.get(spec.key, 0))
+
+    def _lengths_of(self, key: str, fields: dict[str, str]) -> dict[str, int]:
+        """The length of each field's text (kept while the row's text is the same)."""
+        old = self._lengths.get(key)
+        if old is not None and old[0] is fields:
+            return old[1]
+        lengths = {field: len(text) for field, text in fields.items()}
+        self._lengths[key] = (fields, lengths)
+        return lengths
 
     def _fill(self) -> None:
         self.clear()
         if not self._shown:
             return
-        widths = tuple(w for _, w in self._shown)
+        widths = tuple((s.key, w) for s, w in self._shown)
         kept = self._cells.pop(widths, {})
         self._cells[widths] = kept  # the latest last
         while len(self._cells) > KEPT_WIDTHS:
             del self._cells[next(iter(self._cells))]
         self._add_all([(key, self._row_cells(kept, key, fields)) for key, fields in self._rows])
 
-    def _row_cells(
-        self, kept: dict[str, tuple[dict[str, str], tuple]], key: str, fields: dict[str, str]
-    ) -> tuple:
+    def _row_cells(self, kept: dict[str, Kept], key: str, fields: dict[str, str]) -> Kept:
         """The row's cells: those kept from an earlier fill at these widths when its text
         is the same (cutting 2,000 rows of text anew took a quarter of a second)."""
         old = kept.get(key)
-        if old is not None and old[0] == fields:
-            return old[1]
+        if old is not None and old.fields == fields:
+            return old
         (first, width), rest = self._shown[0], self._shown[1:]
         lead = LeadCell(self, key, fields[first.key], width, first.right)
         cells = (lead, *(cell(fields[s.key], w, s.right) for s, w in rest))
-        kept[key] = (fields, cells)
-        return cells
+        kept[key] = Kept(fields, cells)
+        return kept[key]
 
     def _render_cell(
         self,
@@ -299,7 +329,7 @@ class KeyTable(DataTable):
         plain = text.plain
         return plain if cell_len(plain) == width else None
 
-    def _add_all(self, rows: list[tuple[str, tuple[object, ...]]]) -> None:
+    def _add_all(self, rows: list[tuple[str, Kept]]) -> None:
         """Add rows to the emptied table at once.
 
         DataTable's ``add_row`` does per-row work this table never needs (it lists the
@@ -311,15 +341,21 @@ class KeyTable(DataTable):
         if self.row_count or not all(
             hasattr(self, name) for name in ("_data", "_row_locations", "_update_count")
         ):
-            for key, cells in rows:
-                self.add_row(*cells, key=key)
+            for key, kept in rows:
+                self.add_row(*kept.cells, key=key)
             return
         keys = [column.key for column in self.ordered_columns]
-        for index, (key, cells) in enumerate(rows):
-            row_key = RowKey(key)
-            self._row_locations[row_key] = index
-            self._data[row_key] = dict(zip(keys, cells, strict=True))
-            self.rows[row_key] = TableRow(row_key, 1)
+        places = {}
+        for index, (key, kept) in enumerate(rows):
+            if kept.entries is None:  # made once; a refill puts the same entries back
+                row_key = RowKey(key)
+                data = dict(zip(keys, kept.cells, strict=True))
+                kept.entries = (row_key, data, TableRow(row_key, 1))
+            row_key, data, row = kept.entries
+            places[row_key] = index
+            self._data[row_key] = data
+            self.rows[row_key] = row
+        self._row_locations = type(self._row_locations)(places)  # DataTable's two-way map
         self._require_update_dimensions = True  # the scrollable height
         self._update_count += 1
         self.cursor_coordinate = self.cursor_coordinate  # clamped, as add_row does

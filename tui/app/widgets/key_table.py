@@ -13,6 +13,7 @@ from rich.style import Style
 from rich.text import Text
 from textual import events
 from textual.binding import Binding
+from textual.coordinate import Coordinate
 from textual.widgets import DataTable
 from textual.widgets.data_table import Row as TableRow
 from textual.widgets.data_table import RowDoesNotExist, RowKey
@@ -114,6 +115,9 @@ class Kept:
     cells: tuple[object, ...]
     entries: tuple[RowKey, dict, TableRow] | None = None
 
+
+AWAY = Coordinate(-2, 0)
+"""A cursor place on no row (the header is row -1)."""
 
 KEPT_WIDTHS = 3
 """Sets of columns and widths whose cells a table keeps (the whole list's and a filter's)."""
@@ -276,6 +280,30 @@ class KeyTable(DataTable):
         cells = (lead, *(cell(fields[s.key], w, s.right) for s, w in rest))
         kept[key] = Kept(fields, cells)
         return kept[key]
+
+    def _render_line_in_row(
+        self,
+        row_key: RowKey,
+        line_no: int,
+        base_style: Style,
+        cursor_location: Coordinate,
+        hover_location: Coordinate,
+    ) -> tuple[list, list]:
+        """A row's drawing, kept while the row is away from the cursor.
+
+        DataTable keeps each row's drawing under the cursor's place, so every move of the
+        cursor drew every visible row again (a third of a key's time beside 2,000 rows). A
+        row cursor only changes the row it is on: elsewhere the place is given as "on no
+        row", so those rows' drawings are kept across moves."""
+        if self.cursor_type == "row" and hasattr(self, "_row_locations"):
+            row = self._row_locations.get(row_key)  # None: the header
+            if cursor_location.row != row:
+                cursor_location = AWAY
+            if hover_location.row != row:
+                hover_location = AWAY
+        return super()._render_line_in_row(
+            row_key, line_no, base_style, cursor_location, hover_location
+        )
 
     def _render_cell(
         self,

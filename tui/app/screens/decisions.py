@@ -8,13 +8,14 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer
+from textual.widgets import DataTable
 
 from tui.app.messages import LogChanged
 from tui.app.notices import not_saved, tell
 from tui.app.screens.confirm_prompt import ConfirmPrompt
 from tui.app.session import SET_ASIDE, LogNotSaved, ReviewSession
 from tui.app.text import path_text
+from tui.app.widgets.key_footer import KeyFooter
 from tui.app.widgets.key_table import ColumnSpec, KeyTable, Row
 from tui.app.widgets.line import Line
 from tui.recodings.decisions import decided_counts
@@ -90,7 +91,7 @@ class DecisionsScreen(Screen[str | None]):
         yield Line("", id="warning")
         yield LogTable(id="entries")
         yield Line("", id="detail")
-        yield Footer(compact=True)
+        yield KeyFooter(compact=True)
 
     def on_mount(self) -> None:
         self.query_one(LogTable).focus()

@@ -10,7 +10,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer
+from textual.widgets import DataTable
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from tui.app.fit_cache import ColumnFits, FitCache, FitRequest
@@ -41,6 +41,7 @@ from tui.app.text import path_text
 from tui.app.view_state import ReviewView
 from tui.app.widgets.exactness_line import ExactnessLine
 from tui.app.widgets.forms_table import FormsTable, form_text, power_words, row_notes
+from tui.app.widgets.key_footer import KeyFooter
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
 from tui.app.widgets.missing_panel import MissingPanel
@@ -105,7 +106,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         yield Line("", id="caution")
         yield Line("", id="note")
         yield Line("", id="settings")
-        yield Footer(compact=True)
+        yield KeyFooter(compact=True)
 
     def on_mount(self) -> None:
         self.query_one(FormsTable).focus()
@@ -142,6 +143,14 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self._refresh_heading()
         if self.fits is not None and self.fits.request != self.request():
             self._load(self.query_one(FormsTable).highlighted_key())
+
+    def reopen(self, column: str) -> None:
+        """Show ``column`` as a newly opened screen would (this screen is kept between
+        columns): the curves, the table in its usual room, the first form."""
+        self.recoded = False
+        self.remove_class("-plot-first")
+        self.show_column(column)
+        self.query_one(FormsTable).focus()
 
     def show_column(self, column: str) -> None:
         """Switch to ``column``: fits from the cache, or computed in a worker."""

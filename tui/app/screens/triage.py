@@ -12,7 +12,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.screen import Screen
 from textual.timer import Timer
-from textual.widgets import DataTable, Footer, Input, ProgressBar
+from textual.widgets import DataTable, Input, ProgressBar
 
 from tui.app.fit_cache import FitCache
 from tui.app.messages import LogChanged
@@ -22,6 +22,7 @@ from tui.app.screens.inspect import InspectScreen
 from tui.app.session import ReviewSession
 from tui.app.text import number_text
 from tui.app.view_state import ReviewView
+from tui.app.widgets.key_footer import KeyFooter
 from tui.app.widgets.line import Line
 from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
@@ -129,6 +130,7 @@ class TriageScreen(Screen[None]):
         self._decided_words = ("", "")  # the summary's counts: in full, and non-zero only
         self._summary_tail: list[str] = []
         self._known: tuple[tuple, Known] | None = None  # and what it was read from
+        self._column_screen: InspectScreen | None = None  # made once, shown for each column
 
     def compose(self) -> ComposeResult:
         s = self.session
@@ -148,7 +150,7 @@ class TriageScreen(Screen[None]):
         yield Input(placeholder="type part of a column name; Enter: done, Esc: clear", id="filter")
         yield TriageTable(id="columns")
         yield Line("", id="detail")
-        yield Footer(compact=True)
+        yield KeyFooter(compact=True)
 
     def on_mount(self) -> None:
         self.query_one("#warning").display = bool(self.session.source_warning)
@@ -373,7 +375,19 @@ class TriageScreen(Screen[None]):
         """Inspect the highlighted column."""
         column = self.query_one(TriageTable).highlighted_key()
         if column is not None:
-            self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)
+            self.app.push_screen(self._inspect(column), self._back)
+
+    def _inspect(self, column: str) -> InspectScreen:
+        """The column screen showing ``column``. It is made once and kept (installed)
+        between columns: making its widgets and laying them out anew took about a third
+        of the time to open a column."""
+        screen = self._column_screen
+        if screen is None:
+            screen = self._column_screen = InspectScreen(self.session, self.cache, column)
+            self.app.install_screen(screen, name=f"column-{id(screen)}")
+        else:
+            screen.reopen(column)
+        return screen
 
     def _back(self, column: str | None) -> None:
         # The list is redrawn as the screen resumes (on_screen_resume): only the cursor.
@@ -427,4 +441,4 @@ class TriageScreen(Screen[None]):
 
     def _open_from_log(self, column: str | None) -> None:
         if column is not None:
-            self.app.push_screen(InspectScreen(self.session, self.cache, column), self._back)
+            self.app.push_screen(self._inspect(column), self._back)

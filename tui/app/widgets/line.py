@@ -17,12 +17,16 @@ class Line(Static):
         self, text: str = "", *, id: str | None = None, classes: str | None = None
     ) -> None:  # noqa: A002
         super().__init__(text, markup=False, id=id, classes=classes)
+        self._text: str | None = text  # as last given (None: not a plain string)
 
     def update(self, content: VisualType = "", *, layout: bool = True) -> None:
         """Show new text. A layout of the screen measures and draws every widget again
         (tens of ms beside a list of 2,000 rows, on every cursor move that updates a line
         of detail): a line as wide as its container whose new text takes as many lines
         at its width as the old one is only drawn again."""
+        if isinstance(content, str) and content == self._text:
+            return  # the same text: nothing to draw (a redraw of the list gives most lines again)
+        self._text = content if isinstance(content, str) else None
         width = self.content_size.width
         rule = self.styles.width
         steady = width > 0 and hasattr(self, "visual") and (rule is None or not rule.is_auto)

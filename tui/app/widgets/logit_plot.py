@@ -47,6 +47,7 @@ class LogitPlot(PlotextPlot):
         self.recoded = False
         """Show the groups against the chosen form's linear predictor instead."""
         self._window: tuple[int, PlotWindow] | None = None  # per fits object
+        self._drawn: tuple[tuple, RenderableType] | None = None  # the last picture, by what
 
     def draw(self, fits: ColumnFits | None, chosen: FormFit | None, recoded: bool = False) -> None:
         """Show these fits with ``chosen`` as the candidate curve (None: groups only);
@@ -64,6 +65,18 @@ class LogitPlot(PlotextPlot):
         return self._window[1]
 
     def render(self) -> RenderableType:
+        # Laying the column screen out again (a line or the table changing height) draws
+        # every widget again: the picture is made again only when what it shows changed
+        # (plotext takes tens of ms for it).
+        shown = (self._fits, self._chosen, self.recoded, self.size, self.app.theme, self.theme)
+        kept = self._drawn
+        if kept is not None and _same(kept[0], shown):
+            return kept[1]
+        picture = self._picture()
+        self._drawn = (shown, picture)
+        return picture
+
+    def _picture(self) -> RenderableType:
         plt = self.plt
         plt.clear_figure()
         fits = self._fits
@@ -138,6 +151,11 @@ class LogitPlot(PlotextPlot):
         line = np.linspace(max(window.x_low, bottom), min(window.x_high, top), CURVE_POINTS)
         self.plt.plot(line.tolist(), line.tolist(), marker=LINEAR_MARK, color="cyan")
         self._draw_groups(predictor, fits)
+
+
+def _same(a: tuple, b: tuple) -> bool:
+    """The fits and the form by identity (they are never changed in place), the rest by value."""
+    return a[0] is b[0] and a[1] is b[1] and a[2:] == b[2:]
 
 
 def _runs(x: np.ndarray, y: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:

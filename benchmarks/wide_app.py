@@ -42,6 +42,7 @@ if str(REPO) not in sys.path:  # run as a script from anywhere
 from benchmarks.results import recorded, results_path  # noqa: E402
 from benchmarks.synthetic import OUTCOME, make_extract  # noqa: E402
 from tui.app.app import ReviewApp  # noqa: E402
+from tui.app.screens.inspect import InspectScreen  # noqa: E402
 from tui.app.session import open_session  # noqa: E402
 from tui.app.widgets.triage_table import TriageTable  # noqa: E402
 from tui.engine.scan import ColumnScan, ScanSettings  # noqa: E402
@@ -111,8 +112,9 @@ def replayer(results: list[ColumnScan]) -> Callable[..., Iterator[ColumnScan]]:
 
 
 Step = Callable[[object], Awaitable["Ended | None"]]
-Ended = tuple[float, float, float]
-"""When a step's timed part ended, if before its last key: (last frame, wall, CPU)."""
+Ended = tuple[float, float, float, float | None]
+"""When a step's timed part ended, if before its last key: (last frame, wall, CPU, the
+first frame of the column screen when the step opens one)."""
 
 
 def _press(*keys: str) -> Step:
@@ -137,11 +139,14 @@ QUIET = 0.05
 
 def _open_shown() -> Step:
     """Open the next column (not opened before, so nothing is cached) and time it until
-    its plot and candidate forms are on the screen; then, untimed, wait for the selection
-    shares (a bootstrap in a worker thread, seconds) and go back."""
+    its plot and candidate forms are on the screen, and until the first frame of the
+    column screen (its title and the fitting state); then, untimed, wait for the
+    selection shares (a bootstrap in a worker thread, seconds) and go back."""
 
     async def step(pilot) -> Ended:
         # Not the Pilot's press: it waits for the process to be idle, so for the shares.
+        screens = pilot.app.bench_screens
+        screens.clear()
         pilot.app.simulate_key("enter")
         while getattr(pilot.app.screen, "fits", None) is None:
             await asyncio.sleep(0.002)
@@ -150,7 +155,8 @@ def _open_shown() -> Step:
         while time.perf_counter() - max([seen, *frames]) < QUIET:
             await asyncio.sleep(0.002)
         drawn = max([seen, *frames])
-        ended = (drawn, drawn, time.process_time())  # CPU: the worker's included
+        first = next((t for t, shown in screens if isinstance(shown, InspectScreen)), None)
+        ended = (drawn, drawn, time.process_time(), first)  # CPU: the worker's included
         await pilot.app.workers.wait_for_complete()
         await pilot.pause()
         await pilot.press("escape")
@@ -161,7 +167,10 @@ def _open_shown() -> Step:
 
 # (what, step, repeats): each repeat is timed on its own, after _setup's keys (untimed).
 FILTER_TYPED = "p1"
-STEPS: list[tuple[str, Step, int]] = [
+SCREEN_SHOWN = "open a new column: column screen shown"
+"""A row of its own, from the presses of 'forms shown': the key to the first frame of the
+column screen, what the user sees first (no Pilot figure; CPU up to that frame)."""
+STEPS: list[tuple[str, Step | None, int]] = [
     ("down (one row)", _press("down"), 30),
     ("page down", _press("pagedown"), 10),
     ("end / home", _press("end"), 5),
@@ -171,6 +180,7 @@ STEPS: list[tuple[str, Step, int]] = [
     ("filter: clear (escape)", _press("escape"), 4),
     ("open a column and back", _open_and_back(), 3),
     ("open a new column: forms shown", _open_shown(), 3),
+    (SCREEN_SHOWN, None, 0),  # the same presses, to the column screen's first frame
     ("back to the list (escape)", _press("escape"), 3),
 ]
 """Typed before the timed letter: about half of 2,000 names hold it, a tenth of those "p10"."""
@@ -215,7 +225,7 @@ async def _drive(path: Path, fill: str) -> tuple[float, dict[str, list[float]], 
             filled = time.perf_counter() - start
             assert app.screen.query_one(TriageTable).row_count == cols
             for what, step, repeats in STEPS:
-                for i in range(repeats):
+                for i in range(repeats if step is not None else 0):
                     setup = _setup(what, i)
                     if setup:
                         await pilot.press(*setup)
@@ -227,7 +237,11 @@ async def _drive(path: Path, fill: str) -> tuple[float, dict[str, list[float]], 
                     await pilot.pause()
                     last = max(drawn, default=time.perf_counter())  # no frame: all of it
                     if ended is None:
-                        ended = (last, time.perf_counter(), time.process_time())
+                        ended = (last, time.perf_counter(), time.process_time(), None)
+                    if ended[3] is not None:
+                        frames.setdefault(SCREEN_SHOWN, []).append((ended[3] - began) * 1000)
+                        cpu_then = next(c for t, c in drawn_cpu(app) if t == ended[3])
+                        cpu.setdefault(SCREEN_SHOWN, []).append((cpu_then - busy) * 1000)
                     frames.setdefault(what, []).append((ended[0] - began) * 1000)
                     times.setdefault(what, []).append((ended[1] - began) * 1000)
                     cpu.setdefault(what, []).append((ended[2] - busy) * 1000)
@@ -241,31 +255,47 @@ def _frame_clock(app: ReviewApp) -> list[float]:
     """When each frame was finished (the app composes a frame and hands it to the
     terminal; headless, nothing is written): the key's last frame is its redraw."""
     drawn: list[float] = []
+    screens: list[tuple[float, object]] = []  # (when, the screen drawn), cleared by steps
+    cpu: list[tuple[float, float]] = []  # (when, the process's CPU time then)
     display = app._display
 
     def timed(screen, renderable) -> None:  # noqa: ANN001
         display(screen, renderable)
         if renderable is not None:
-            drawn.append(time.perf_counter())
+            now = time.perf_counter()
+            drawn.append(now)
+            screens.append((now, screen))
+            cpu.append((now, time.process_time()))
 
     app._display = timed  # type: ignore[method-assign]
     app.bench_frames = drawn  # type: ignore[attr-defined]  (for steps that end early)
+    app.bench_screens = screens  # type: ignore[attr-defined]
+    app.bench_cpu = cpu  # type: ignore[attr-defined]
     return drawn
+
+
+def drawn_cpu(app: ReviewApp) -> list[tuple[float, float]]:
+    """(when, CPU time) of every frame drawn so far."""
+    return app.bench_cpu  # type: ignore[attr-defined]
 
 
 def _line(what: str, wide: dict[str, list[float]], narrow: dict[str, list[float]]) -> str:
     frame = wide["frame"][what]
     verdict = "ok" if max(frame) < TARGET_MS else "SLOW"
+
+    def median(figures: dict[str, list[float]]) -> float | None:
+        return statistics.median(figures[what]) if what in figures else None
+
     figures = [
         statistics.median(frame),
         max(frame),
-        statistics.median(narrow["frame"][what]),
-        statistics.median(wide["pilot"][what]),
-        statistics.median(narrow["pilot"][what]),
-        statistics.median(wide["cpu"][what]),
-        statistics.median(narrow["cpu"][what]),
+        median(narrow["frame"]),
+        median(wide["pilot"]),
+        median(narrow["pilot"]),
+        median(wide["cpu"]),
+        median(narrow["cpu"]),
     ]
-    cells = " | ".join(f"{v:.0f}" for v in figures)
+    cells = " | ".join("-" if v is None else f"{v:.0f}" for v in figures)
     return f"| {what} | {len(frame)} | {cells} | {verdict} |"
 
 
@@ -319,6 +349,9 @@ def main() -> None:
             "drawing), the first time for the column (the largest figure), then from the "
             "cache. 'open a new column: forms shown' opens a column not opened before and "
             "stops the clock once its plot and forms table are drawn (the shares follow); "
+            "'column screen shown' is the same presses to the first frame of the column "
+            "screen, its title and 'fitting' state (no fit is ever made before the key: "
+            "both are cold figures); "
             "'back to the list' is the escape from such a column. The other keys only "
             "redraw. Filter: "
             f"'/{FILTER_TYPED}' typed first, then the timed letter '0' (taken back between "

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import threading
 from collections.abc import Callable
 
 from textual import on, work
@@ -45,6 +46,7 @@ from tui.app.widgets.key_footer import KeyFooter
 from tui.app.widgets.line import Line
 from tui.app.widgets.logit_plot import LogitPlot
 from tui.app.widgets.missing_panel import MissingPanel
+from tui.app.widgets.steady import NoScrollSize, lay_out_now
 from tui.cautions import CAUTIONS
 from tui.engine.compare import FormFit
 from tui.engine.forms.base import Recoding
@@ -53,7 +55,13 @@ from tui.recodings.model import Decision
 
 CUT_CAUTION = CAUTIONS[1]
 """Shown whenever the highlighted form is an indicator or bands (dichotomising)."""
+FORMS_FIRST_AT_MOST = 0.5
+"""Seconds the shares wait for the forms to be drawn first (never longer)."""
 MISSING_TIP = "Code a missing x for the accepted form: leave, fill, or fill + indicator"
+
+
+class Picture(NoScrollSize, Horizontal):
+    """The plot and the missing panel side by side (never scrolls)."""
 
 
 class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
@@ -87,6 +95,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self.fits: ColumnFits | None = None
         self.shares: SelectionShares | None = None
         self._want_key: str | None = None
+        self._forms_drawn = threading.Event()  # set once a fit worker's forms are drawn
         self.recoded = False
         """The plot shows the recoded view (groups against the form's linear predictor)."""
 
@@ -96,7 +105,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         yield Line("", id="counts")
         yield ExactnessLine(id="exactness")
         yield Line("", id="adjusted")
-        with Horizontal(id="picture"):
+        with Picture(id="picture"):
             yield LogitPlot(id="plot")
             yield MissingPanel(id="missing")
         yield Line("", id="legend")
@@ -162,6 +171,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         self.post_message(ColumnOpened(column))  # its forms jump the scan's queue
         self._refresh_heading()
         self._load()
+        lay_out_now(self)
 
     def _load(self, focus_key: str | None = None) -> None:
         """Show the fits of the current request; ``focus_key`` is the row to highlight
@@ -185,14 +195,22 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
     def compute(self, request: FitRequest) -> None:
         """Fit every candidate off the UI thread; the cache keeps the result."""
         fits = self.cache.fits(request)
+        drawn = self._forms_drawn = threading.Event()
         if not get_current_worker().is_cancelled:
             self.post_message(FitsReady(fits))
+            # The bootstrap holds the interpreter for seconds: it starts once the forms
+            # are drawn (a frame), so that frame does not share the interpreter with it.
+            drawn.wait(FORMS_FIRST_AT_MOST)
         self.compute_shares(request)
 
     @on(FitsReady)
     def _arrived(self, message: FitsReady) -> None:
+        drawn = self._forms_drawn
         if message.fits.request == self.request():  # a stale result stays in the cache only
             self._show_fits(message.fits)
+            self.call_after_refresh(drawn.set)
+        else:
+            drawn.set()
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         if event.worker.group == "fits" and event.state == WorkerState.ERROR:
@@ -217,6 +235,7 @@ class InspectScreen(SharesHook, HandFormsHook, Screen[str]):
         missing_hooks.show_panel(self, self.session, self.column, fits)
         s = self.session
         self.query_one(ExactnessLine).show(fits, self.cache, s.settings, s.scan_of(self.column))
+        lay_out_now(self)  # the table's and the panel's new sizes in the next frame
 
     def _accepted(self) -> Recoding | None:
         decision = self.session.log.decision_for(self.column)

@@ -24,6 +24,7 @@ from tui.app.text import number_text
 from tui.app.view_state import ReviewView
 from tui.app.widgets.key_footer import KeyFooter
 from tui.app.widgets.line import Line
+from tui.app.widgets.steady import lay_out_now
 from tui.app.widgets.triage_table import PENDING, TriageTable
 from tui.engine.scan import ColumnScan
 from tui.engine.score_words import statistics_word
@@ -420,8 +421,12 @@ class TriageScreen(Screen[None]):
             box.value = ""
         box.display = False
         self._filter = ""
-        self.query_one(TriageTable).focus()
+        # Focus moved now, not after the key (``focus()`` waits): the footer's keys
+        # change with the box, and all of it is laid out in the key's frame.
+        self.set_focus(self.query_one(TriageTable))
         self.redraw()
+        self.query_one(KeyFooter).follow_now()
+        lay_out_now(self)  # the hidden box's room goes to the list in the key's frame
 
     def on_input_changed(self, event: Input.Changed) -> None:
         text = event.value.strip()

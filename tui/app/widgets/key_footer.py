@@ -11,6 +11,8 @@ from textual.screen import Screen
 from textual.widgets import Footer
 from textual.widgets._footer import FooterKey
 
+from tui.app.widgets.steady import lay_out_now
+
 MOST_KEYS = 40
 """Keys made at most; beyond this a rebuild makes only those wanted."""
 
@@ -150,6 +152,18 @@ class KeyFooter(Footer):
             # Straight after the key's own changes, so they are drawn in one frame.
             self.call_later(self._follow_keys)
 
+    def follow_now(self) -> None:
+        """Show the keys wanted now, when they are among those made (a screen calls it at
+        the end of a key that moves the focus, so the footer changes in the key's frame;
+        the call that follows the focus change then finds nothing to do)."""
+        wanted = self._wanted()
+        keys = list(self.query_children(FooterKey))
+        if wanted is None or wanted == self._shown or len(keys) != len(self._made):
+            return
+        if among(wanted, self._made):
+            self._show(wanted)
+            self._shown = wanted
+
     async def _follow_keys(self) -> None:
         if not self.is_attached:
             return
@@ -163,3 +177,4 @@ class KeyFooter(Footer):
         with self.app.batch_update():
             self._show(wanted)
         self._shown = wanted
+        lay_out_now(self.screen)  # the keys shown or hidden in the key's own frame

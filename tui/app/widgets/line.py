@@ -6,11 +6,13 @@ from typing import TYPE_CHECKING
 
 from textual.widgets import Static
 
+from tui.app.widgets.steady import NoScrollSize
+
 if TYPE_CHECKING:
     from textual.visual import VisualType
 
 
-class Line(Static):
+class Line(NoScrollSize, Static):
     """A ``Static`` with markup off, laid out again only when its height changes."""
 
     def __init__(

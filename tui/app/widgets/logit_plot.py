@@ -14,6 +14,7 @@ from rich.console import RenderableType
 from textual_plotext import PlotextPlot
 
 from tui.app.fit_cache import ColumnFits
+from tui.app.widgets.steady import NoScrollSize
 from tui.engine.compare import FormFit
 from tui.engine.plot_window import (
     Z95,
@@ -36,7 +37,7 @@ MAX_LABELS = 8
 LABEL_EVERY = (1, 2, 4, 5, 10, 20, 50)
 
 
-class LogitPlot(PlotextPlot):
+class LogitPlot(NoScrollSize, PlotextPlot):
     """Draws a ``ColumnFits`` and one highlighted candidate, in the window the engine sets
     from the groups and the smoother (``plot_window``): the highlight never moves it."""
 
@@ -52,6 +53,8 @@ class LogitPlot(PlotextPlot):
     def draw(self, fits: ColumnFits | None, chosen: FormFit | None, recoded: bool = False) -> None:
         """Show these fits with ``chosen`` as the candidate curve (None: groups only);
         ``recoded``: the groups' logits against ``chosen``'s fitted linear predictor."""
+        if fits is self._fits and chosen is self._chosen and recoded == self.recoded:
+            return  # the same picture (the table's cursor set again): no frame to draw
         self._fits, self._chosen, self.recoded = fits, chosen, recoded
         self.refresh()
 

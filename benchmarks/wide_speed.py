@@ -167,7 +167,7 @@ def _shape(rows: int, cols: int, folder: Path, args: argparse.Namespace) -> None
     note = "" if scale == 1 else f" (timed on {len(subset)} columns, scaled x{scale:g})"
     print(f"1. hand loop (statsmodels, 2 fits a column): {hand_all:.1f} s{note}")
 
-    out = folder / "scan.csv"
+    out = folder / f"scan_{rows}x{cols}.csv"  # one per shape: bendwise never replaces a file
     command = [sys.executable, "-m", "tui", "scan", str(path), "--outcome", OUTCOME]
     command += ["--format", "csv", "--output", str(out)]
     env = dict(os.environ, PYTHONPATH=str(REPO))

@@ -12,6 +12,7 @@ from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
 from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError, fit_on_counts
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.shift import learn_shift
+from tui.engine.heap import reuse_freed_memory
 
 EVENTS_PER_PARAMETER = 10
 """Rule of thumb: at least 10 events per estimated parameter (Peduzzi et al. 1996)."""
@@ -301,6 +302,9 @@ def compare_forms(
     candidates = list(candidates) if candidates is not None else default_candidates(groups, knots)
     if candidates[0].kind != "linear":
         raise ValueError("the first candidate must be linear (the reference)")
+    # The searches stack tens of designs: temporaries of about 1 MB per Newton step, each a
+    # fresh mapping (kernel page faults) unless freed blocks are kept for reuse.
+    reuse_freed_memory()
     linear = fit_candidate(candidates[0], counts)
     rows = [linear] + [fit_candidate(c, counts, linear) for c in candidates[1:]]
     quadratic = next((r.fit for r in rows if r.key == "quadratic"), None)

@@ -72,16 +72,19 @@ def fit_stack(
 def _scaled(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
     """Centre (weighted mean) and scale (weighted sd) the non-intercept columns in place,
     as ``fit_logistic`` does; an all-zero column keeps centre 0 and scale 1.
-    ``zt`` is members × columns × rows."""
+    ``zt`` is members × columns × rows, C-contiguous."""
     w = trials / float(trials.sum())
-    cols = zt[:, 1:, :]
-    big = np.abs(cols).max(axis=2, keepdims=True)
+    # Every column as one row of a 2-D array: matrix-vector products then go to BLAS,
+    # several times faster than the same products over a strided 3-D view. The intercept
+    # rows come along (they end at 0) and are set to 1 at the end.
+    flat = zt.reshape(-1, zt.shape[2])
+    big = np.maximum(flat.max(axis=1), -flat.min(axis=1))
     big[big == 0] = 1.0
-    cols /= big
-    cols -= cols @ w[:, None]
-    s = np.sqrt(np.square(cols) @ w[:, None])
+    flat /= big[:, None]
+    flat -= (flat @ w)[:, None]
+    s = np.sqrt(np.square(flat) @ w)
     s[s == 0] = 1.0
-    cols /= s
+    flat /= s[:, None]
     zt[:, 0, :] = 1.0
     return zt
 

@@ -162,10 +162,16 @@ def _newton(
     beta[:, 0, 0] = np.log(pbar / (1 - pbar))
     eta = np.full((k, m), beta[0, 0, 0])
     for _ in range(_MAX_ITER):
+        # mu, trials * mu, the residuals and the weights trials * mu * (1 - mu), each
+        # written over the last: every pass over the stack costs about as much as the
+        # arithmetic in it.
         mu = _expit(eta)
-        fitted = trials * mu
-        grad = za @ (events - fitted)[:, :, None]
-        hess = (za * (fitted * (1.0 - mu))[:, None, :]) @ za.transpose(0, 2, 1)
+        fitted = np.multiply(trials, mu, out=eta)  # eta is recomputed after the step
+        resid = np.subtract(events, fitted)
+        mu *= fitted
+        weight = np.subtract(fitted, mu, out=mu)
+        grad = za @ resid[:, :, None]
+        hess = (za * weight[:, None, :]) @ za.transpose(0, 2, 1)
         try:
             step = np.linalg.solve(hess, grad)
         except np.linalg.LinAlgError:
@@ -175,7 +181,7 @@ def _newton(
         step[bad] = 0.0
         beta += step.transpose(0, 2, 1)
         eta = (beta @ za)[:, 0, :]
-        runaway = np.abs(eta).max(axis=1) > _SEPARATION_ETA
+        runaway = (eta.max(axis=1) > _SEPARATION_ETA) | (eta.min(axis=1) < -_SEPARATION_ETA)
         done = (decrement <= limit) & ~bad
         broken[active[bad | (runaway & ~done)]] = True
         converged[active[done]] = True

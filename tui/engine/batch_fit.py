@@ -38,15 +38,24 @@ class BatchFits:
 
 
 def fit_stack(
-    designs: np.ndarray, events: np.ndarray, trials: np.ndarray, tol: float = 1e-10
+    designs: np.ndarray,
+    events: np.ndarray,
+    trials: np.ndarray,
+    tol: float = 1e-10,
+    overwrite: bool = False,
 ) -> BatchFits:
     """Fit log-odds = designs[i] @ coef for every i (designs: members × rows × columns,
-    intercept column first), all on the same events and trials."""
+    intercept column first), all on the same events and trials. With ``overwrite`` the
+    designs may be scaled in place (no copy when each member's columns lie contiguous in
+    memory, as ``stacked_designs`` builds them)."""
     designs = np.asarray(designs, dtype=float)
     k, m, p = designs.shape
     per = max(1, _CHUNK_FLOATS // max(1, m * p))
     if k > per:
-        parts = [fit_stack(designs[i : i + per], events, trials, tol) for i in range(0, k, per)]
+        parts = [
+            fit_stack(designs[i : i + per], events, trials, tol, overwrite)
+            for i in range(0, k, per)
+        ]
         return BatchFits(
             np.concatenate([b.llf for b in parts]), np.concatenate([b.settled for b in parts])
         )
@@ -58,7 +67,8 @@ def fit_stack(
     if m == 0 or not finite.any():
         return BatchFits(llf, settled)
     # One contiguous row per design column: the reductions run along rows.
-    zt = _scaled(np.ascontiguousarray(designs.transpose(0, 2, 1)), trials)
+    zt = designs.transpose(0, 2, 1)
+    zt = _scaled(np.ascontiguousarray(zt) if overwrite else np.array(zt, order="C"), trials)
     full_rank = finite & _clearly_full_rank(zt, trials)
     if not full_rank.any():
         return BatchFits(llf, settled)

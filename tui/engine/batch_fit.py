@@ -69,11 +69,17 @@ def fit_stack(
     # One contiguous row per design column: the reductions run along rows.
     zt = designs.transpose(0, 2, 1)
     zt = _scaled(np.ascontiguousarray(zt) if overwrite else np.array(zt, order="C"), trials)
-    full_rank = finite & _clearly_full_rank(zt, trials)
+    clear, gram = _clearly_full_rank(zt, trials)
+    full_rank = finite & clear
     if not full_rank.any():
         return BatchFits(llf, settled)
     idx = np.flatnonzero(full_rank)
-    ll, ok = _newton(zt[idx], events, trials, tol)
+    if idx.size < k:
+        zt = zt[idx]
+        gram = None if gram is None else gram[idx]
+    if not np.all(trials >= 0):  # the Gram matrix was weighted by max(trials, 0)
+        gram = None
+    ll, ok = _newton(zt, events, trials, tol, gram)
     llf[idx] = np.where(ok, ll, np.nan)
     settled[idx] = ok
     return BatchFits(llf, settled)
@@ -99,9 +105,10 @@ def _scaled(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
     return zt
 
 
-def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
+def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
     """Members whose weighted design is far from dependent columns: every diagonal entry
-    of R (QR of the weighted design) above ``_RANK_MARGIN`` of the largest.
+    of R (QR of the weighted design) above ``_RANK_MARGIN`` of the largest; with the
+    Gram matrices weighted by the trials (None when not computed).
 
     R's diagonal is that of the Cholesky factor of the weighted Gram matrix, several times
     cheaper to get; the Gram matrix squares the rounding, so only members it puts clear of
@@ -110,10 +117,10 @@ def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
     """
     k, p, m = zt.shape
     if m < p:
-        return np.zeros(k, dtype=bool)
+        return np.zeros(k, dtype=bool), None
     w = np.maximum(trials, 0)
+    gram = (zt * w) @ zt.transpose(0, 2, 1)
     try:
-        gram = (zt * w) @ zt.transpose(0, 2, 1)
         diag = np.diagonal(np.linalg.cholesky(gram), axis1=1, axis2=2)
         top = np.maximum(1.0, diag.max(axis=1))
         clear = (diag > 100 * _RANK_MARGIN * top[:, None]).all(axis=1)
@@ -127,7 +134,7 @@ def _clearly_full_rank(zt: np.ndarray, trials: np.ndarray) -> np.ndarray:
         diag = np.abs(np.diagonal(r, axis1=1, axis2=2))
         top = np.maximum(1.0, diag.max(axis=1))
         full[unsure] = (diag > _RANK_MARGIN * top[:, None]).all(axis=1)
-    return full
+    return full, gram
 
 
 def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> np.ndarray:
@@ -147,7 +154,11 @@ def _expit(eta: np.ndarray) -> np.ndarray:
 
 
 def _newton(
-    zt: np.ndarray, events: np.ndarray, trials: np.ndarray, tol: float
+    zt: np.ndarray,
+    events: np.ndarray,
+    trials: np.ndarray,
+    tol: float,
+    gram: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Plain Newton-Raphson (iteratively reweighted least squares) on every member at once;
     returns log-likelihoods and which members converged cleanly.
@@ -157,6 +168,10 @@ def _newton(
     Converged means the Newton decrement g'H^-1 g, twice the log-likelihood still to gain
     near the maximum, is below ``tol`` times the rows: the reported log-likelihood is then
     the maximum to far better than the window within which members are refitted alone.
+
+    ``gram``, the designs' Gram matrices weighted by the trials, gives the first step for
+    free: at the start every row has the same fitted rate, so the Hessian is the Gram
+    matrix times rate × (1 − rate) and the residuals are the same for every member.
     """
     k, p, m = zt.shape
     nobs = float(trials.sum())
@@ -171,17 +186,13 @@ def _newton(
     beta = np.zeros((k, 1, p))
     beta[:, 0, 0] = np.log(pbar / (1 - pbar))
     eta = np.full((k, m), beta[0, 0, 0])
-    for _ in range(_MAX_ITER):
-        # mu, trials * mu, the residuals and the weights trials * mu * (1 - mu), each
-        # written over the last: every pass over the stack costs about as much as the
-        # arithmetic in it.
-        mu = _expit(eta)
-        fitted = np.multiply(trials, mu, out=eta)  # eta is recomputed after the step
-        resid = np.subtract(events, fitted)
-        mu *= fitted
-        weight = np.subtract(fitted, mu, out=mu)
-        grad = za @ resid[:, :, None]
-        hess = (za * weight[:, None, :]) @ za.transpose(0, 2, 1)
+    for it in range(_MAX_ITER):
+        if it == 0 and gram is not None:
+            rate = 1.0 / (1.0 + np.exp(-beta[0, 0, 0]))
+            grad = (za @ (events - trials * rate))[:, :, None]
+            hess = gram * (rate * (1.0 - rate))
+        else:
+            grad, hess = _gradient_hessian(za, eta, events, trials)
         try:
             step = np.linalg.solve(hess, grad)
         except np.linalg.LinAlgError:
@@ -207,6 +218,24 @@ def _newton(
     if ok.any():
         ll[ok] = _loglik(final_eta[ok], events, trials)
     return ll, ok
+
+
+def _gradient_hessian(
+    za: np.ndarray, eta: np.ndarray, events: np.ndarray, trials: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """Gradient (members × columns × 1) and Hessian of the log-likelihood at eta.
+
+    Overwrites eta (recomputed after the step)."""
+    # mu, trials * mu, the residuals and the weights trials * mu * (1 - mu), each written
+    # over the last: every pass over the stack costs about as much as its arithmetic.
+    mu = _expit(eta)
+    fitted = np.multiply(trials, mu, out=eta)
+    resid = np.subtract(events, fitted)
+    mu *= fitted
+    weight = np.subtract(fitted, mu, out=mu)
+    grad = za @ resid[:, :, None]
+    hess = (za * weight[:, None, :]) @ za.transpose(0, 2, 1)
+    return grad, hess
 
 
 def _solve_or_nan(h: np.ndarray, g: np.ndarray) -> np.ndarray:

@@ -12,6 +12,7 @@ from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
 from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError, fit_on_counts
 from tui.engine.forms.registry import default_candidates
 from tui.engine.forms.shift import learn_shift
+from tui.engine.heap import reuse_freed_memory
 
 EVENTS_PER_PARAMETER = 10
 """Rule of thumb: at least 10 events per estimated parameter (Peduzzi et al. 1996)."""
@@ -223,8 +224,15 @@ def _covariate_level(fit: LogisticFit, counts: ReducedCounts) -> float:
     return float(counts.covariate_means @ fit.coef[1 : 1 + c])
 
 
-def box_tidwell(counts: ReducedCounts, linear: LogisticFit | None) -> BoxTidwell | None:
-    """Box-Tidwell on (shifted) x; None without a usable linear fit."""
+def box_tidwell(
+    counts: ReducedCounts, linear: LogisticFit | None, quadratic: LogisticFit | None = None
+) -> BoxTidwell | None:
+    """Box-Tidwell on (shifted) x; None without a usable linear fit.
+
+    The linear fit stands for the fit on shifted x (the solver centres every column, so a
+    shift changes only the intercept), and ``quadratic``, the fit of x and x squared when
+    the table has it, for the one on shifted x: the same models, not fitted twice.
+    """
     if linear is None or not linear.ok or counts.distinct_values < 3:
         return None
     shift = learn_shift(counts)
@@ -233,18 +241,23 @@ def box_tidwell(counts: ReducedCounts, linear: LogisticFit | None) -> BoxTidwell
     if counts.covariates is not None:  # adjusted check: covariates in both models
         base = np.column_stack([base, counts.covariates])
     at = base.shape[1]  # column of z in both designs
+    design = np.column_stack([base, z, z * np.log(z)])
     try:
-        restricted = fit_logistic(np.column_stack([base, z]), counts.events, counts.trials)
-        full = fit_logistic(np.column_stack([base, z, z * np.log(z)]), counts.events, counts.trials)
+        full = fit_logistic(design, counts.events, counts.trials)
     except ValueError:
         return None
-    chi2, p = lr_test(restricted, full, 1)
-    beta = restricted.coef[at]
+    chi2, p = lr_test(linear, full, 1)
+    beta = linear.coef[at]
     power = 1.0 + full.coef[at + 1] / beta if beta != 0 else float("nan")
-    design = np.column_stack([base, z, z * np.log(z)])
     half = 1.96 * _coef_se(design, counts, full, at + 1) / abs(beta) if beta != 0 else np.nan
     return BoxTidwell(
-        chi2, p, float(power), shift, power - half, power + half, _monotone(counts, base, z)
+        chi2,
+        p,
+        float(power),
+        shift,
+        power - half,
+        power + half,
+        _monotone(counts, base, linear, quadratic),
     )
 
 
@@ -258,21 +271,25 @@ def _coef_se(design: np.ndarray, counts: ReducedCounts, fit: LogisticFit, j: int
         return float("nan")
 
 
-def _monotone(counts: ReducedCounts, base: np.ndarray, z: np.ndarray) -> bool:
-    """False when a quadratic in z clearly turns inside the central 90% of the rows."""
-    try:
-        line = fit_logistic(np.column_stack([base, z]), counts.events, counts.trials)
-        bend = fit_logistic(np.column_stack([base, z, z * z]), counts.events, counts.trials)
-    except ValueError:
-        return True
+def _monotone(
+    counts: ReducedCounts, base: np.ndarray, line: LogisticFit, bend: LogisticFit | None
+) -> bool:
+    """False when a quadratic in x clearly turns inside the central 90% of the rows
+    (``line`` and ``bend``: the fits of x and of x and x squared, bend fitted here when
+    None)."""
+    if bend is None:
+        x = counts.x
+        try:
+            bend = fit_logistic(np.column_stack([base, x, x * x]), counts.events, counts.trials)
+        except ValueError:
+            return True
     _, p = lr_test(line, bend, 1)
     b1, b2 = bend.coef[-2], bend.coef[-1]
     if not (p < 0.05) or b2 == 0:
         return True
     turn = -b1 / (2 * b2)
     low, high = (float(v) for v in counts.quantile([0.05, 0.95]))
-    shift = float(z[0] - counts.x[0])
-    return not (low + shift < turn < high + shift)
+    return not (low < turn < high)
 
 
 def compare_forms(
@@ -285,6 +302,10 @@ def compare_forms(
     candidates = list(candidates) if candidates is not None else default_candidates(groups, knots)
     if candidates[0].kind != "linear":
         raise ValueError("the first candidate must be linear (the reference)")
+    # The searches stack tens of designs: temporaries of about 1 MB per Newton step, each a
+    # fresh mapping (kernel page faults) unless freed blocks are kept for reuse.
+    reuse_freed_memory()
     linear = fit_candidate(candidates[0], counts)
     rows = [linear] + [fit_candidate(c, counts, linear) for c in candidates[1:]]
-    return ComparisonTable(tuple(rows), box_tidwell(counts, linear.fit))
+    quadratic = next((r.fit for r in rows if r.key == "quadratic"), None)
+    return ComparisonTable(tuple(rows), box_tidwell(counts, linear.fit, quadratic))

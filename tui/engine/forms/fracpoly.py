@@ -143,12 +143,17 @@ class Fp2Kind(Kind):
 
     def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
         powers = _powers_of(x, params)
-        out = np.empty((len(params), x.size, 2))
+        # Each member's outputs one after the other in memory (a transposed view is
+        # returned): contiguous rows to write here and to copy into the stacked designs.
+        out = np.empty((len(params), 2, x.size))
         for i, p in enumerate(params):
             p1, p2 = (float(v) for v in p["powers"])
-            out[i, :, 0] = first = powers(p["shift"], p1)
-            out[i, :, 1] = first * powers(p["shift"], "ln") if p1 == p2 else powers(p["shift"], p2)
-        return out
+            out[i, 0] = first = powers(p["shift"], p1)
+            if p1 == p2:
+                np.multiply(first, powers(p["shift"], "ln"), out=out[i, 1])
+            else:
+                out[i, 1] = powers(p["shift"], p2)
+        return out.transpose(0, 2, 1)
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["fp2a", "fp2b"]

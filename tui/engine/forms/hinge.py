@@ -44,10 +44,10 @@ class HingeKind(Kind):
 
     def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
         knots = np.array([float(p["knot"]) for p in params])
-        out = np.empty((knots.size, x.size, 2))
-        out[:, :, 0] = x
-        out[:, :, 1] = np.maximum(x[None, :] - knots[:, None], 0.0)
-        return out
+        out = np.empty((knots.size, 2, x.size))  # member by member in memory (see FP2)
+        out[:, 0] = x
+        np.maximum(np.subtract(x[None, :], knots[:, None], out=out[:, 1]), 0.0, out=out[:, 1])
+        return out.transpose(0, 2, 1)
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return ["lin", "hinge"]

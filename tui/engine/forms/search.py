@@ -83,10 +83,12 @@ def stacked_designs(recodings: list[Recoding], x: np.ndarray) -> np.ndarray | No
     if outputs.ndim != 3:
         return None
     k, m, q = outputs.shape
-    designs = np.empty((k, m, q + 1))
-    designs[:, :, 0] = 1.0
-    designs[:, :, 1:] = outputs
-    return designs
+    # Held column by column (a transposed view is returned), the layout ``fit_stack``
+    # works in, so it need not copy them again.
+    columns = np.empty((k, q + 1, m))
+    columns[:, 0] = 1.0
+    columns[:, 1:] = outputs.transpose(0, 2, 1)
+    return columns.transpose(0, 2, 1)
 
 
 def _stacked_keys(
@@ -106,8 +108,12 @@ def _stacked_keys(
     keys: list[Key] = [None] * len(recodings)
     if not at.size:
         return keys
+    # The designs are built here and not used again: the stack may scale them in place.
     stack = fit_stack(
-        designs[at] if at.size < finite.size else designs, counts.events, counts.trials
+        designs[at] if at.size < finite.size else designs,
+        counts.events,
+        counts.trials,
+        overwrite=True,
     )
     top = max((float(ll) for ll in stack.llf[stack.settled]), default=-np.inf)
     window = 1e-7 * (abs(top) + 1.0)

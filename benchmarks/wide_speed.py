@@ -108,7 +108,8 @@ def _first_pass_child(path: str, report: str) -> None:
     from tui.intake.dataset import open_dataset
 
     data = open_dataset(path, OUTCOME, None, [])
-    scan = iter(TwoPassScan(data.columns, data.raw_values, data.outcome.y))
+    values = (data.columns, data.raw_values, data.outcome.y)
+    scan = iter(TwoPassScan(*values, many_of=data.raw_values_many))
     for step in scan:
         if step.stage == "score" and step.done == step.total:
             Path(report).write_text(repr(time.time()))

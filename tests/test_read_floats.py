@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 
 from tui.intake.dataset import _raw_floats, open_columnar, open_whole
-from tui.intake.readers import read_column, read_floats
+from tui.intake.readers import read_column, read_floats, read_floats_many
 
 
 @pytest.fixture()
@@ -56,3 +56,19 @@ def test_columnar_values_match_a_whole_read(stored):
     whole = open_whole(stored, "y")
     for name in NUMERIC:
         np.testing.assert_array_equal(columnar.raw_values(name), whole.raw_values(name))
+
+
+def test_several_columns_in_one_read_equal_one_at_a_time(stored):
+    # Text gives None as read_floats does; a name asked twice comes back as its own copy.
+    names = ["f64", "text", "big", "gappy", "f64"]
+    many = read_floats_many(stored, names)
+    assert many[1] is None
+    for name, got in zip(names, many, strict=True):
+        if name != "text":
+            np.testing.assert_array_equal(got, read_floats(stored, name))
+    assert many[0] is not many[4]
+    columnar = open_columnar(stored, "y")
+    for name, got in zip(NUMERIC, columnar.raw_values_many(NUMERIC), strict=True):
+        np.testing.assert_array_equal(got, columnar.raw_values(name))
+    (text,) = columnar.raw_values_many(["text"])  # the general reader's path
+    np.testing.assert_array_equal(text, columnar.raw_values("text"))

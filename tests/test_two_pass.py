@@ -113,3 +113,21 @@ def test_a_scan_closed_in_its_first_pass_leaves_no_worker_behind(rng):
     while {p.pid for p in multiprocessing.active_children()} - before:
         assert time.monotonic() < deadline, "worker processes still running"
         time.sleep(0.1)
+
+
+def test_forked_workers_reading_batches_of_columns_give_the_same_results(rng, tmp_path):
+    # 40 columns on two workers: batches of five columns, each read by one many_of call.
+    cols, y = _data(rng, p=40)
+    names = list(cols)
+    one = {s.column: s for s in scan_columns(names, cols.__getitem__, y, workers=1)}
+
+    def many_of(batch):
+        (tmp_path / f"read_{'_'.join(batch)}").touch()  # workers are processes: a file each
+        return [cols[name].copy() for name in batch]
+
+    steps = list(TwoPassScan(names, cols.__getitem__, y, workers=2, many_of=many_of))
+    _check(steps, one, names)
+    batches = [p.name.split("_")[1:] for p in tmp_path.glob("read_*")]
+    if multiprocessing.get_start_method() == "fork":
+        assert sorted(c for b in batches for c in b) == sorted(names)
+        assert len(batches) == 8 and all(len(b) == 5 for b in batches)

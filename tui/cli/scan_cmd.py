@@ -66,7 +66,15 @@ def _two_passes(
 ) -> list[ColumnScan]:
     bars = {stage: Progress(len(columns), enabled=sys.stderr.isatty()) for stage in STAGES}
     results = []
-    for step in TwoPassScan(columns, data.raw_values, data.outcome.y, settings, adjust=adjust):
+    scan = TwoPassScan(
+        columns,
+        data.raw_values,
+        data.outcome.y,
+        settings,
+        adjust=adjust,
+        many_of=data.raw_values_many,
+    )
+    for step in scan:
         bars[step.stage].step(f"{STAGES[step.stage]}: {step.scan.column}")
         if step.done == step.total:
             bars[step.stage].close()

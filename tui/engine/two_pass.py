@@ -14,8 +14,9 @@ few thousand numbers (about 40 kB), an exact one three numbers per distinct valu
 
 from __future__ import annotations
 
+import math
 import threading
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from dataclasses import dataclass
 from multiprocessing.context import BaseContext
@@ -36,6 +37,17 @@ from tui.engine.scan import ColumnScan, ReducedColumn, ScanSettings, rank, reduc
 from tui.engine.scan import scan_reduced as _scan_reduced
 
 Stage = Literal["score", "forms"]
+
+ManyValuesOf = Callable[[Sequence[str]], list[np.ndarray]]
+"""Returns several columns' values at once (as ``ValuesOf`` each), in the order asked."""
+
+BATCH_COLUMNS = 8
+"""Columns a forked worker reads and scores per first-pass task: one Parquet read of eight
+columns costs about a quarter of eight reads, and fewer tasks cost the parent less."""
+BATCH_VALUES = 200_000
+"""Values a worker holds per batch at most (rows x columns): long columns go one a task."""
+BATCHES_PER_WORKER = 4
+"""Batches are kept small enough that every worker gets at least this many."""
 
 
 @dataclass(frozen=True)
@@ -73,14 +85,18 @@ class TwoPassScan:
         adjust: Adjustment | None = None,
         reduced_of: Callable[[str], ReducedColumn] | None = None,
         first_here: bool = False,
+        many_of: ManyValuesOf | None = None,
     ) -> None:
         """``reduced_of`` hands over counts reduced elsewhere (a source's engine); then
         ``values_of`` and ``y`` are not read and workers receive the counts.
         ``first_here``: the first pass runs in the calling thread while the worker
         processes start, and only the second pass uses them. A process that cannot fork
         reduces every column itself anyway and the first pass's fits take milliseconds,
-        so the first scores come without waiting for workers to start."""
+        so the first scores come without waiting for workers to start.
+        ``many_of`` reads several columns at once (``values_of``'s values): forked workers
+        then read their batch of columns in one call."""
         self._first_here = first_here
+        self._many_of = many_of
         self.columns = list(columns)
         self._reduced_of = reduced_of
         self._values_of, self._y, self._settings, self._adjust = values_of, y, settings, adjust
@@ -126,43 +142,52 @@ class TwoPassScan:
                 self._workers,
                 context,
                 initializer=_inherit,
-                initargs=(self._values_of, self._y, self._settings, self._adjust),
+                initargs=(self._values_of, self._y, self._settings, self._adjust, self._many_of),
             )
         else:
             executor = ProcessPoolExecutor(self._workers, context, initializer=_quiet_worker)
         limit = AHEAD_PER_WORKER * self._workers
         finished = False
         try:
-            pending: dict[Future[tuple[ColumnScan, ReducedColumn | None]], str] = {}
-            names = iter(self.columns)
+            pending: dict[Future[list[tuple[ColumnScan, ReducedColumn | None]]], list[str]] = {}
+            size = self._batch_size() if forked else 1
+            batches = (self.columns[i : i + size] for i in range(0, total, size))
             while True:
                 while len(pending) < limit:
-                    name = next(names, None)
-                    if name is None:
+                    batch = next(batches, None)
+                    if batch is None:
                         break
                     if forked:
-                        pending[executor.submit(_first_named, name)] = name
+                        pending[executor.submit(_first_named, batch)] = batch
                     else:
+                        (name,) = batch
                         reduced = self._reduce(name)
                         self._reduced[name] = reduced
-                        pending[executor.submit(_first_given, name, reduced, self._settings)] = name
+                        task = executor.submit(_first_given, name, reduced, self._settings)
+                        pending[task] = batch
                 if not pending:
                     break
                 done, _ = wait(pending, return_when=FIRST_COMPLETED)
                 for future in done:
-                    name = pending.pop(future)
-                    scan, reduced = future.result()
-                    kept = self._keep(
-                        name, self._reduced[name] if reduced is None else reduced, scan
-                    )
-                    scored.append(kept)
-                    if len(scored) == total:
-                        self._order(scored)
-                    yield ScanStep("score", kept, len(scored), total)
+                    batch = pending.pop(future)
+                    for name, (scan, reduced) in zip(batch, future.result(), strict=True):
+                        kept = self._keep(
+                            name, self._reduced[name] if reduced is None else reduced, scan
+                        )
+                        scored.append(kept)
+                        if len(scored) == total:
+                            self._order(scored)
+                        yield ScanStep("score", kept, len(scored), total)
             yield from self._second_on(executor, limit)
             finished = True
         finally:
             _shut(executor, finished)
+
+    def _batch_size(self) -> int:
+        """Columns per forked first-pass task (see ``BATCH_COLUMNS``)."""
+        rows = max(1, int(np.asarray(self._y).size))
+        spread = math.ceil(len(self.columns) / (BATCHES_PER_WORKER * self._workers))
+        return max(1, min(BATCH_COLUMNS, BATCH_VALUES // rows, spread))
 
     def _first_here_then_workers(self, context: BaseContext) -> Iterator[ScanStep]:
         """First pass in this thread; second pass on workers started meanwhile."""
@@ -286,10 +311,10 @@ def _first(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnS
 
 def _first_given(
     name: str, reduced: ReducedColumn, settings: ScanSettings
-) -> tuple[ColumnScan, None]:
+) -> list[tuple[ColumnScan, None]]:
     """Worker task: first pass on counts reduced by the parent."""
     with one_blas_thread():
-        return _first(name, reduced, settings), None
+        return [(_first(name, reduced, settings), None)]
 
 
 def _forms_given(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:
@@ -298,23 +323,37 @@ def _forms_given(name: str, reduced: ReducedColumn, settings: ScanSettings) -> C
         return _scan_reduced(name, reduced, settings)[0]
 
 
-_INHERITED: tuple[ValuesOf, np.ndarray, ScanSettings, Adjustment | None] | None = None
+_INHERITED: (
+    tuple[ValuesOf, np.ndarray, ScanSettings, Adjustment | None, ManyValuesOf | None] | None
+) = None
 
 
 def _inherit(
-    values_of: ValuesOf, y: np.ndarray, settings: ScanSettings, adjust: Adjustment | None
+    values_of: ValuesOf,
+    y: np.ndarray,
+    settings: ScanSettings,
+    adjust: Adjustment | None,
+    many_of: ManyValuesOf | None = None,
 ) -> None:
     """Worker start (fork): keep the reader, outcome, settings and covariates handed over."""
     global _INHERITED
     _quiet_worker()
-    _INHERITED = (values_of, y, settings, adjust)
+    _INHERITED = (values_of, y, settings, adjust, many_of)
 
 
-def _first_named(name: str) -> tuple[ColumnScan, ReducedColumn]:
-    """Worker task (fork): read, reduce and score one column; the counts go back to the
-    parent for the second pass."""
+def _first_named(names: list[str]) -> list[tuple[ColumnScan, ReducedColumn]]:
+    """Worker task (fork): read, reduce and score a batch of columns; the counts go back
+    to the parent for the second pass."""
     assert _INHERITED is not None, "worker started without the parent's reader"
-    values_of, y, settings, adjust = _INHERITED
+    values_of, y, settings, adjust, many_of = _INHERITED
+    if many_of is not None and len(names) > 1:
+        columns = many_of(names)
+    else:
+        columns = [values_of(name) for name in names]
+    out = []
     with one_blas_thread():
-        reduced = reduce_for_scan(values_of(name), y, settings, adjust, name)
-        return _first(name, reduced, settings), reduced
+        for i, name in enumerate(names):
+            reduced = reduce_for_scan(columns[i], y, settings, adjust, name)
+            columns[i] = None  # type: ignore[call-overload]  # a column's rows go once reduced
+            out.append((_first(name, reduced, settings), reduced))
+    return out

@@ -20,7 +20,13 @@ import pandas as pd
 
 from tui.intake.outcome import CodedOutcome, code_outcome
 from tui.intake.profile import ColumnProfile, numeric_values, profile_column, profile_frame
-from tui.intake.readers import list_columns, read_column, read_floats, read_table
+from tui.intake.readers import (
+    list_columns,
+    read_column,
+    read_floats,
+    read_floats_many,
+    read_table,
+)
 from tui.names import shown_name
 from tui.problems import InputProblem
 
@@ -71,6 +77,10 @@ class Dataset:
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
         return _raw_floats(self.frame[column])
+
+    def raw_values_many(self, columns: Sequence[str]) -> list[np.ndarray]:
+        """``raw_values`` of several columns."""
+        return [self.raw_values(column) for column in columns]
 
 
 def _raw_floats(series: pd.Series) -> np.ndarray:
@@ -144,6 +154,18 @@ class ColumnarDataset:
             return _raw_floats(self._kept(column))
         keep = self.outcome.keep
         return floats if keep.all() else floats[keep]
+
+    def raw_values_many(self, columns: Sequence[str]) -> list[np.ndarray]:
+        """``raw_values`` of several columns, numbers stored in Parquet read in one call."""
+        keep = self.outcome.keep
+        every = keep.all()
+        out = []
+        for column, floats in zip(columns, read_floats_many(self.path, columns), strict=True):
+            if floats is None:
+                out.append(_raw_floats(self._kept(column)))
+            else:
+                out.append(floats if every else floats[keep])
+        return out
 
     def series(self, column: str) -> pd.Series:
         """One column as stored, for the kept rows (text covariates, weights)."""

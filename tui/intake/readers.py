@@ -128,6 +128,15 @@ def read_floats(path: PathLike, name: str) -> np.ndarray | None:
     return _OPEN_PARQUET.floats(file, name)
 
 
+def read_floats_many(path: PathLike, names: Sequence[str]) -> list[np.ndarray | None]:
+    """``read_floats`` of several columns in one Parquet read (one call costs about as
+    much as reading a few columns, so a scan of a wide file reads them in batches)."""
+    file, ext = _checked(path)
+    if ext != ".parquet":
+        return [None] * len(names)
+    return _OPEN_PARQUET.floats_many(file, names)
+
+
 def drop_cached_table() -> None:
     """Forget the whole table ``read_column`` keeps for row-oriented formats."""
     _LAST_TABLE.clear()
@@ -189,24 +198,35 @@ class _OpenParquet:
         return _tidy(frame)[name]
 
     def floats(self, file: Path, name: str) -> np.ndarray | None:
+        return self.floats_many(file, [name])[0]
+
+    def floats_many(self, file: Path, names: Sequence[str]) -> list[np.ndarray | None]:
         import pyarrow as pa
         import pyarrow.compute as pc
 
         with self._lock:
             opened = self._open(file)
-            _require_columns(file, [name], self._names)
-            kind = self._types.get(name)  # None for a repeated name: the general reader's
-            if kind is None:
-                return None
-            numbers = pa.types.is_integer(kind) or pa.types.is_floating(kind)
-            if not (numbers or pa.types.is_boolean(kind)):
-                return None
-            table = _attempt(
-                file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=False)
-            )
-        # Whole numbers past 2**53 round as pandas rounds them (safe=False: no refusal).
-        column = pc.cast(table.column(0), pa.float64(), safe=False)
-        return np.asarray(column.to_numpy(), dtype=float)
+            _require_columns(file, list(names), self._names)
+            # None for a repeated name (the general reader's) or a type not numbers.
+            wanted = list(dict.fromkeys(n for n in names if _is_number(self._types.get(n))))
+            table = None
+            if wanted:
+                table = _attempt(
+                    file, "Parquet", lambda: opened.read(columns=wanted, use_pandas_metadata=False)
+                )
+        found: dict[str, np.ndarray] = {}
+        for i, name in enumerate(wanted):
+            # Whole numbers past 2**53 round as pandas rounds them (safe=False: no refusal).
+            column = pc.cast(table.column(i), pa.float64(), safe=False)  # type: ignore[union-attr]
+            found[name] = np.asarray(column.to_numpy(), dtype=float)
+        # A name asked for twice gets its own copy: callers may change what they receive.
+        out: list[np.ndarray | None] = []
+        given: set[str] = set()
+        for name in names:
+            values = found.get(name)
+            out.append(values.copy() if values is not None and name in given else values)
+            given.add(name)
+        return out
 
     def _open(self, file: Path) -> Any:
         """The open file for ``file`` (lock held), opened again when it changed."""
@@ -223,6 +243,15 @@ class _OpenParquet:
             self._pandas = schema.pandas_metadata
             self._key = key
         return self._file
+
+
+def _is_number(kind: Any) -> bool:
+    """A stored type read straight to floats: integers, floats and booleans."""
+    import pyarrow as pa
+
+    if kind is None:
+        return False
+    return pa.types.is_integer(kind) or pa.types.is_floating(kind) or pa.types.is_boolean(kind)
 
 
 def _one_column_metadata(pandas: dict | None, name: str) -> dict[bytes, bytes] | None:

@@ -32,6 +32,9 @@ def lay_out_now(screen: Widget) -> None:
     table then costs a frame without the layout and a second frame with it. Called at
     the end of such a handler, the screen takes the requests before it draws."""
     for widget in screen.walk_children(Widget):
-        asked = widget._layout_required or widget._repaint_required or widget._scroll_required
-        if asked and hasattr(widget, "_check_refresh"):
-            widget._check_refresh()  # what the widget does when idle: tell the screen
+        # Textual's own flags and hand-over (read with getattr: another Textual may name
+        # them otherwise, and the requests then go to the screen when idle, as before).
+        flags = ("_layout_required", "_repaint_required", "_scroll_required")
+        hand_over = getattr(widget, "_check_refresh", None)
+        if hand_over is not None and any(getattr(widget, flag, False) for flag in flags):
+            hand_over()  # what the widget does when idle: tell the screen

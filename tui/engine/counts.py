@@ -13,7 +13,8 @@ bincount, no sort at all. Other columns sort every row and the rows of the small
 class with numpy's default sort (vectorised on current CPUs: a million doubles in about
 15 ms; sorting each class and merging the runs with the stable sort took about twice as
 long). Rows and events per value or per bin are then positions in sorted arrays, so no
-row-level index is ever built.
+row-level index is ever built. From ``LATTICE_ROWS`` rows a column with many values is
+binned without any sort, on a fine lattice of its range (``tui.engine.lattice``).
 """
 
 from __future__ import annotations
@@ -21,6 +22,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+
+from tui.engine.lattice import LATTICE_ROWS, lattice_counts
 
 DEFAULT_MAX_LEVELS = 1000
 """Distinct values kept exactly before binning (benchmarks/results/scan_speed.md: why)."""
@@ -68,6 +71,8 @@ class ReducedCounts:
     sandwich covariance (``robust_wald``); None otherwise."""
     nonevents_sq: np.ndarray | None = None
     """Survey weights only: sum of the squared weights of the non-event rows at each x."""
+    values_estimated: bool = False
+    """``values`` is an estimate (a long column reduced on a lattice, ``tui.engine.lattice``)."""
 
     @property
     def survey(self) -> bool:
@@ -310,6 +315,22 @@ def _reduce_binary(
     counted = _whole_number_counts(x, event, max_levels, exact_below)
     if counted is not None:
         return counted
+    if n >= max(LATTICE_ROWS, exact_below):
+        whole = np.array_equal(np.floor(x[:64]), x[:64]) and np.array_equal(np.floor(x), x)
+        bins = lattice_counts(x, event, max_levels, TAIL_ROWS, _QUANTILE_GRID, whole)
+        if bins is not None:
+            return ReducedCounts(
+                bins.x,
+                bins.trials,
+                bins.events,
+                False,
+                bins.grid,
+                bins.values,
+                bins.low,
+                bins.high,
+                gap=bins.gap,
+                values_estimated=bins.values_estimated,
+            )
     xs, xm, minority_events = _sorted_by_class(x, event)
     changes = xs[1:] != xs[:-1]
     distinct = int(np.count_nonzero(changes)) + 1

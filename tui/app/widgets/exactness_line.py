@@ -29,8 +29,10 @@ class ExactScoreIn(Message):
 def binned_words(fits: ColumnFits) -> str:
     """What the binned figures are: the plot, the table and the list's score."""
     counts = fits.counts
+    about = "about " if counts.values_estimated else ""
     return (
-        f"≈ plot, forms and list score on {counts.distinct} bins of {counts.distinct_values} values"
+        f"≈ plot, forms and list score on {counts.distinct} bins"
+        f" of {about}{counts.distinct_values} values"
     )
 
 

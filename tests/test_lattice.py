@@ -22,10 +22,9 @@ def _columns() -> dict[str, np.ndarray]:
     rng = np.random.default_rng(20261203)
     return {
         "skewed": rng.lognormal(1.0, 0.8, N),
-        "bell": rng.normal(50.0, 10.0, N),
+        "bell": rng.normal(80.0, 10.0, N),
         "two decimals": np.round(rng.normal(100.0, 20.0, N), 2),
-        "zero heap": np.where(rng.random(N) < 0.3, 0.0, rng.gamma(2.0, 3.0, N)),
-        "negative and positive": rng.normal(0.0, 1.0, N),
+        "heap of ones": np.where(rng.random(N) < 0.3, 1.0, 0.01 + rng.gamma(2.0, 3.0, N)),
     }
 
 
@@ -84,10 +83,22 @@ def test_quantile_grid_is_within_one_cell_of_numpy(name):
 
 
 def test_a_heap_of_ties_keeps_its_exact_value_in_the_quantiles():
-    x = _columns()["zero heap"]
+    x = _columns()["heap of ones"]
     got = reduce_column(x, _events(x))
-    np.testing.assert_array_equal(got.quantile([0.1, 0.2, 0.29]), 0.0)
-    assert got.x[0] == 0.0 and got.trials[0] == np.count_nonzero(x == 0.0)
+    below, heap = np.mean(x < 1.0), np.mean(x == 1.0)
+    inside = np.linspace(below + 0.01, below + heap - 0.01, 5)
+    np.testing.assert_array_equal(got.quantile(inside), 1.0)
+    at = np.flatnonzero(got.x == 1.0)
+    assert at.size == 1 and got.trials[at[0]] == np.count_nonzero(x == 1.0)
+
+
+def test_columns_reaching_zero_are_sorted_for_their_exact_smallest_gap():
+    rng = np.random.default_rng(13)
+    for x in (rng.normal(0.0, 1.0, N), np.where(rng.random(N) < 0.3, 0.0, rng.gamma(2.0, 3.0, N))):
+        got = reduce_column(x, _events(x))
+        values = np.unique(x)
+        assert not got.values_estimated and got.distinct_values == values.size
+        assert got.smallest_gap == np.diff(values).min()
 
 
 @pytest.mark.parametrize("name", list(_columns()))
@@ -99,7 +110,7 @@ def test_distinct_count_estimate_is_within_half_a_percent(name):
 
 def test_whole_numbers_with_narrow_cells_are_counted_exactly():
     rng = np.random.default_rng(11)
-    x = rng.integers(0, 200_000, N).astype(float)  # span above LATTICE_SPAN, below CELLS
+    x = rng.integers(1, 200_001, N).astype(float)  # span above LATTICE_SPAN, below CELLS
     assert C.LATTICE_SPAN < 200_000 < L.CELLS
     got = reduce_column(x, _events(x))
     assert not got.values_estimated

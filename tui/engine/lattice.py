@@ -8,20 +8,24 @@ value needs only bincounts: rows, events and the sum of x in each cell. Cells ar
 - bins are unions of whole cells, so no run of tied values is ever split and each bin's rows,
   events and mean x are exact; the cuts follow the sorted path's rule (half at equal counts,
   half at equal steps across the range), placed at cell edges instead of between rows;
-- every distinct value in the cells that hold the ``tail_rows`` lowest and highest rows is
-  a bin of its own, with its exact value (read off the few rows of those cells);
-- quantiles are exact in the tails and where a cell holds one value, and interpolated
-  across the cell otherwise: off by less than one cell's width;
+- every distinct value in the cells that hold the ``tail_rows`` lowest and highest rows,
+  and in crowded cells (more than a quantile step of rows: a heap of ties, perhaps with a
+  few other values beside it), is an entry of its own with its exact rows and events,
+  read off the rows of those cells only;
+- quantiles are exact where the row lies in such an entry, and interpolated across its
+  cell otherwise: off by less than one cell's width;
 - the distinct count is exact when every cell holds one value (whole numbers with cells no
   wider than one) and otherwise estimated by linear counting (Whang, Vander-Zanden & Taylor
   1990, ACM TODS 15(2)) over a 64-bit hash of every value: standard error about 0.1% at a million
   distinct values;
-- the smallest gap is measured among the lowest and highest values (where a shifted log or
-  power is steepest), not over the whole column.
+- only columns above zero are taken: a log or power of a column reaching zero or below
+  is shifted by its exact smallest gap between values, which only the sort gives (the gap
+  kept here is the smallest step among the lowest and highest values, which no shift uses).
 
-Where the lattice is too coarse (a cell holding more than a quantile step of rows and more
-than one value, as in very heavy tails), or the column has so few occupied cells that it
-may need exact counts per value, ``lattice_counts`` returns None and the caller sorts.
+Where the lattice is too coarse (a cell wider than 1/``SPREAD_CELLS`` of the distance
+between the 5th and 95th percentiles, as in very long tails, or crowded cells holding more
+values than there are bins), or the column has so few occupied cells that it may need exact
+counts per value, ``lattice_counts`` returns None and the caller sorts.
 benchmarks/results/lattice_accuracy.md measures the approximation.
 """
 
@@ -38,8 +42,7 @@ CELLS = 1 << 18
 LATTICE_ROWS = 200_000
 """From this many rows the lattice replaces the sort (below it, sorting costs a few ms)."""
 GRID_STEPS = 2000
-"""A cell holding more than rows / GRID_STEPS rows (a quantile step) must hold one value;
-else the caller sorts."""
+"""A cell holding more than rows / GRID_STEPS rows (a quantile step) is read value by value."""
 SPREAD_CELLS = 4000
 """A cell must be no wider than this share of the distance between the 5th and 95th
 percentiles; else (very heavy tails) the caller sorts."""
@@ -79,17 +82,6 @@ class _Cells:
         return int(self.at.size)
 
 
-@dataclass(frozen=True)
-class _Ends:
-    """Distinct values of the cells at one end of the range, with rows and events."""
-
-    cells: int
-    """How many occupied cells (from that end) the values came from."""
-    x: np.ndarray
-    rows: np.ndarray
-    events: np.ndarray
-
-
 def lattice_counts(
     x: np.ndarray,
     event: np.ndarray,
@@ -99,12 +91,13 @@ def lattice_counts(
     whole: bool = False,
 ) -> LatticeBins | None:
     """Binned counts of finite ``x`` with a 0/1 ``event`` (bool), or None where the
-    caller must sort. ``whole``: every value is a whole number (cells no wider than one
-    then hold one value each, and the distinct count is exact)."""
+    caller must sort (also for any column reaching zero or below). ``whole``: every value
+    is a whole number (cells no wider than one then hold one value each, and the distinct
+    count is exact)."""
     n = x.size
     low, high = float(x.min()), float(x.max())
     span = high - low
-    if not (np.isfinite(span) and span > 0 and np.isfinite(CELLS / span)):
+    if low <= 0 or not (np.isfinite(span) and span > 0 and np.isfinite(CELLS / span)):
         return None
     reuse_freed_memory()  # the lattice's arrays of a million cells, again for every column
     cell = _cell_numbers(x, low, CELLS / span)
@@ -128,35 +121,38 @@ def lattice_counts(
         cum,
     )
     one_each = whole and cells.width <= 1.0
-    # A crowded cell is fine when it holds one value (a heap of ties, such as zeros).
-    crowded = np.flatnonzero(cells.rows > n / GRID_STEPS)
-    value_of = np.full(cells.size, np.nan)  # a cell's one value, where known
-    if one_each:
-        value_of = cells.sums / cells.rows  # sums of whole numbers are exact
-    elif crowded.size and not _one_value_each(x, cell, cells, crowded, value_of):
-        return None
-
-    head = _end(x, cell, event, cells, tail_rows, value_of, lowest=True)
-    tail = _end(x, cell, event, cells, tail_rows, value_of, lowest=False)
-    cut = _bin_starts(cells, max_levels, head.cells, tail.cells)
+    value_of = cells.sums / cells.rows if one_each else np.full(cells.size, np.nan)
+    # Cells read value by value: those holding the lowest and highest rows, and crowded
+    # ones (a heap of ties, with perhaps a few other values beside it).
+    exact = np.unique(np.r_[_end_cells(cells, tail_rows), np.flatnonzero(rows > n / GRID_STEPS)])
+    entries = _entries(x, cell, event, cells, exact, value_of)
+    if entries[0].size > max_levels:
+        return None  # crowded cells of many values: the lattice is too coarse here
+    cut = _bin_starts(cells, max_levels, exact)
     trials = np.add.reduceat(cells.rows, cut)
     events = np.add.reduceat(cells.events, cut)
     means = np.clip(np.add.reduceat(cells.sums, cut) / trials, low, high)
-    # Every end cell is a bin of its own: it goes out, its values come in.
-    middle = (cut >= head.cells) & (cut < cells.size - tail.cells)
-    grid = _grid(cells, value_of, head, tail, n, grid_size)
+    binned = ~np.isin(cut, exact)  # a cell read value by value is not a bin
+    out_x = np.r_[entries[0], means[binned]]
+    order = np.argsort(out_x, kind="stable")
+    out_x = out_x[order]
+    out_t = np.r_[entries[1], trials[binned]][order]
+    out_e = np.r_[entries[2], events[binned]][order]
+    is_value = np.r_[np.ones(entries[0].size, bool), np.zeros(int(binned.sum()), bool)][order]
+    grid = _grid(cells, value_of, out_x, out_t, is_value, n, grid_size)
     grid[0], grid[-1] = low, high
     values = cells.size if one_each else _distinct_estimate(x, cells.size)
+    steps = np.diff(entries[0])
     return LatticeBins(
-        np.r_[head.x, means[middle], tail.x],
-        np.r_[head.rows, trials[middle], tail.rows],
-        np.r_[head.events, events[middle], tail.events],
+        out_x,
+        out_t,
+        out_e,
         grid,
         int(values),
         not one_each,
         low,
         high,
-        _smallest_step(head.x, tail.x),
+        float(steps.min()) if steps.size and steps.min() > 0 else None,
     )
 
 
@@ -169,63 +165,46 @@ def _cell_numbers(x: np.ndarray, low: float, scale: float) -> np.ndarray:
     return cell
 
 
-def _one_value_each(
-    x: np.ndarray, cell: np.ndarray, cells: _Cells, which: np.ndarray, value_of: np.ndarray
-) -> bool:
-    """Whether each of the occupied cells ``which`` holds one value (then written into
-    ``value_of``): every row of the cell equals one written row of it."""
-    flag = np.zeros(CELLS, dtype=bool)
-    flag[cells.at[which]] = True
-    inside = flag[cell]
-    xs, cs = x[inside], cell[inside]
-    seen = np.empty(CELLS)
-    seen[cs] = xs
-    if not np.array_equal(xs, seen[cs]):
-        return False
-    value_of[which] = seen[cells.at[which]]
-    return True
+def _end_cells(cells: _Cells, tail_rows: int) -> np.ndarray:
+    """Positions (among the occupied cells) of the cells holding the ``tail_rows`` + 1
+    lowest and the ``tail_rows`` highest rows (the sorted path's rule)."""
+    head = int(np.searchsorted(cells.cum, tail_rows, side="right")) + 1
+    first = int(np.searchsorted(cells.cum, cells.cum[-1] - tail_rows, side="right"))
+    return np.r_[np.arange(min(head, cells.size)), np.arange(first, cells.size)]
 
 
-def _end(
+def _entries(
     x: np.ndarray,
     cell: np.ndarray,
     event: np.ndarray,
     cells: _Cells,
-    tail_rows: int,
+    which: np.ndarray,
     value_of: np.ndarray,
-    lowest: bool,
-) -> _Ends:
-    """The distinct values of the occupied cells holding the ``tail_rows`` lowest (or
-    highest) rows, and one row more at the low end (the sorted path's rule)."""
-    cum = cells.cum
-    if lowest:
-        count = int(np.searchsorted(cum, tail_rows, side="right")) + 1
-        picked = np.arange(min(count, cells.size))
-    else:
-        first = int(np.searchsorted(cum, cum[-1] - tail_rows, side="right"))
-        picked = np.arange(first, cells.size)
-    known = ~np.isnan(value_of[picked])
-    parts = [(value_of[picked[known]], cells.rows[picked[known]], cells.events[picked[known]])]
-    unread = cells.at[picked[~known]]
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every distinct value in the cells at positions ``which``, with its rows and events,
+    ascending; a cell found to hold one value is not read again."""
+    known = ~np.isnan(value_of[which])
+    parts = [(value_of[which[known]], cells.rows[which[known]], cells.events[which[known]])]
+    unread = which[~known]
     if unread.size:
-        # The cells are neighbours at one end of the range: two comparisons find their
-        # rows, less those of a known one-valued cell among them.
-        inside = (cell >= unread[0]) & (cell <= unread[-1])
-        for c in cells.at[picked[known]]:
-            if unread[0] < c < unread[-1]:
-                inside &= cell != c
+        flag = np.zeros(CELLS, dtype=bool)
+        flag[cells.at[unread]] = True
+        inside = flag[cell]
         xs = x[inside]
-        values, where, trials = np.unique(xs, return_inverse=True, return_counts=True)
-        events = np.bincount(where, weights=event[inside], minlength=values.size)
+        # Two plain uniques: an inverse index would cost a stable argsort, ten times more.
+        values, trials = np.unique(xs, return_counts=True)
+        with_event, times = np.unique(xs[event[inside]], return_counts=True)
+        events = np.zeros(values.size)
+        events[np.searchsorted(values, with_event)] = times
         parts.append((values, trials.astype(float), events))
     xv, tv, ev = (np.concatenate(p) for p in zip(*parts, strict=True))
     order = np.argsort(xv, kind="stable")
-    return _Ends(int(picked.size), xv[order], tv[order], ev[order])
+    return xv[order], tv[order], ev[order]
 
 
-def _bin_starts(cells: _Cells, max_levels: int, head: int, tail: int) -> np.ndarray:
+def _bin_starts(cells: _Cells, max_levels: int, exact: np.ndarray) -> np.ndarray:
     """Position (among the occupied cells) where each bin begins: half the cuts at equal
-    counts, half at equal steps across the range, every end cell a bin of its own."""
+    counts, half at equal steps across the range, every cell in ``exact`` a bin alone."""
     m = cells.size
     before = cells.cum - cells.rows  # rows below each cell
     targets = np.linspace(0.0, cells.cum[-1], max(1, max_levels // 2) + 1)
@@ -233,49 +212,47 @@ def _bin_starts(cells: _Cells, max_levels: int, head: int, tail: int) -> np.ndar
     steps = max_levels - max_levels // 2
     edges = (np.arange(1, steps) * (CELLS / steps)).astype(np.intp)
     by_width = np.searchsorted(cells.at, edges, side="left")
-    ends = np.r_[np.arange(head + 1), np.arange(m - tail, m)]
-    cut = np.unique(np.r_[0, by_count, by_width, ends])
+    cut = np.unique(np.r_[0, by_count, by_width, exact, exact + 1])
     return cut[cut < m]
 
 
 def _grid(
-    cells: _Cells, value_of: np.ndarray, head: _Ends, tail: _Ends, n: int, size: int
+    cells: _Cells,
+    value_of: np.ndarray,
+    out_x: np.ndarray,
+    out_t: np.ndarray,
+    is_value: np.ndarray,
+    n: int,
+    size: int,
 ) -> np.ndarray:
     """numpy's default (type 7) quantiles at ``size`` equally spaced probabilities."""
     h = (n - 1) * np.linspace(0.0, 1.0, size)
     below = np.floor(h)
     frac = h - below
-    v_lo = _sorted_row(below, cells, value_of, head, tail, n)
-    v_hi = _sorted_row(np.minimum(below + 1, n - 1), cells, value_of, head, tail, n)
+    v_lo = _sorted_row(below, cells, value_of, out_x, out_t, is_value)
+    v_hi = _sorted_row(np.minimum(below + 1, n - 1), cells, value_of, out_x, out_t, is_value)
     return v_lo + frac * (v_hi - v_lo)
 
 
 def _sorted_row(
-    pos: np.ndarray, cells: _Cells, value_of: np.ndarray, head: _Ends, tail: _Ends, n: int
+    pos: np.ndarray,
+    cells: _Cells,
+    value_of: np.ndarray,
+    out_x: np.ndarray,
+    out_t: np.ndarray,
+    is_value: np.ndarray,
 ) -> np.ndarray:
-    """The value of the sorted row at each 0-based position: exact in the ends and in
-    one-valued cells, else spread evenly across the row's cell."""
-    cum = cells.cum
-    j = np.minimum(np.searchsorted(cum, pos, side="right"), cells.size - 1)
-    within = (pos - (cum[j] - cells.rows[j]) + 0.5) / cells.rows[j]
+    """The value of the sorted row at each 0-based position: exact where its row lies in
+    a value read exactly or a one-valued cell, else spread evenly across the row's cell."""
+    j = np.minimum(np.searchsorted(cells.cum, pos, side="right"), cells.size - 1)
+    within = (pos - (cells.cum[j] - cells.rows[j]) + 0.5) / cells.rows[j]
     out = cells.low + (cells.at[j] + within) * cells.width
     known = ~np.isnan(value_of[j])
     out[known] = value_of[j][known]
-    head_rows = head.rows.sum()
-    low_end = pos < head_rows
-    k = np.searchsorted(np.cumsum(head.rows), pos[low_end], side="right")
-    out[low_end] = head.x[np.minimum(k, head.x.size - 1)]
-    start = n - tail.rows.sum()
-    high_end = pos >= start
-    k = np.searchsorted(np.cumsum(tail.rows), pos[high_end] - start, side="right")
-    out[high_end] = tail.x[np.minimum(k, tail.x.size - 1)]
+    k = np.minimum(np.searchsorted(np.cumsum(out_t), pos, side="right"), out_x.size - 1)
+    read = is_value[k]
+    out[read] = out_x[k[read]]
     return out
-
-
-def _smallest_step(*ends: np.ndarray) -> float | None:
-    steps = [np.diff(v) for v in ends if v.size > 1]
-    least = min((float(s.min()) for s in steps), default=None)
-    return least if least is not None and least > 0 else None
 
 
 def _distinct_estimate(x: np.ndarray, at_least: int) -> int:

@@ -317,19 +317,20 @@ def _reduce_binary(
         return counted
     if n >= max(LATTICE_ROWS, exact_below):
         whole = np.array_equal(np.floor(x[:64]), x[:64]) and np.array_equal(np.floor(x), x)
-        bins = lattice_counts(x, event, max_levels, TAIL_ROWS, _QUANTILE_GRID, whole)
-        if bins is not None:
+        got = lattice_counts(x, event, max_levels, TAIL_ROWS, _QUANTILE_GRID, whole)
+        if got is not None:
+            b = got.bins
             return ReducedCounts(
-                bins.x,
-                bins.trials,
-                bins.events,
+                b.x,
+                b.trials,
+                b.events,
                 False,
-                bins.grid,
-                bins.values,
-                bins.low,
-                bins.high,
-                gap=bins.gap,
-                values_estimated=bins.values_estimated,
+                b.grid,
+                got.values,
+                b.low,
+                b.high,
+                gap=b.gap,
+                values_estimated=got.values_estimated,
             )
     xs, xm, minority_events = _sorted_by_class(x, event)
     changes = xs[1:] != xs[:-1]

@@ -1,5 +1,6 @@
 """DuckDB's approximate path for large inputs (``sketch_pass.py``), forced on a mid-size
-invented input by lowering its row threshold. Reference: the file scan of the same rows
+invented input by lowering its row threshold and leaving out the lattice pass (which takes
+most columns first, tests/test_duckdb_lattice_pass.py). Reference: the file scan of the same rows
 (numpy/pandas path, exact bins). Tolerance, as documented in the sources notes: every
 score within 2% relative or 0.5 absolute, the same ranking; bin counts exact."""
 
@@ -12,6 +13,7 @@ import pytest
 from source_cases import binned_frame, scan_json
 
 import tui.intake.sources.duckdb_source as duckdb_source
+import tui.intake.sources.lattice_pass as lattice_pass
 from tui.engine.pushed import bin_plan
 from tui.intake.sources.duckdb_source import open_file_through_duckdb
 
@@ -26,6 +28,7 @@ def mid_parquet(tmp_path_factory):
 def test_sketched_scan_is_within_tolerance_of_the_file_scan(mid_parquet, monkeypatch, capsys):
     want = scan_json(capsys, str(mid_parquet), "--outcome", "y")
     monkeypatch.setattr(duckdb_source, "SKETCH_FROM_ROWS", 50_000)
+    monkeypatch.setattr(lattice_pass, "reduce_binned", lambda *a, **k: {})
     got = scan_json(capsys, str(mid_parquet), "--outcome", "y", "--engine", "duckdb")
     assert [r["column"] for r in got] == [r["column"] for r in want]
     for a, b in zip(got, want, strict=True):
@@ -39,6 +42,7 @@ def test_sketched_scan_is_within_tolerance_of_the_file_scan(mid_parquet, monkeyp
 def test_sketch_path_is_taken_and_counts_every_row(mid_parquet):
     source = open_file_through_duckdb(str(mid_parquet))
     source._reduction.sketch_from = 50_000
+    source._reduction.arrays = None  # no lattice pass
     sent: list[str] = []
     run = source._reduction.run
     source._reduction.run = lambda sql: sent.append(sql) or run(sql)

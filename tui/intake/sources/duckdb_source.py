@@ -4,7 +4,9 @@ CSV or Parquet file reduced by DuckDB without loading it (``--engine duckdb``).
 A binned column is sorted once by a window (``sorted_pass.py``): the order statistics and
 the quantile grid are read off that sort exactly, so it gets the very bins a file scan
 makes; its rows find their bins by an ASOF join to the bin starts (``bin_join.py``). From
-``SKETCH_FROM_ROWS`` rows on, binned columns are instead sketched, all in two scans
+``SKETCH_FROM_ROWS`` rows on, a binned column above zero is instead counted on a fine
+lattice of its range, one GROUP BY a column (``lattice_pass.py``: exact bin counts,
+quantiles within a 262,144th of the range), and the others are sketched, all in two scans
 (``sketch_pass.py``): approximate quantiles, exact bin counts, documented error. The
 profile estimates distinct counts (``approx_count_distinct``) only to choose the
 path; the exact count comes from the per-value counts or the sort. A CSV file is first
@@ -17,6 +19,8 @@ from __future__ import annotations
 import tempfile
 from pathlib import Path
 from typing import Any
+
+import numpy as np
 
 from tui.intake.sources.base import SourceColumn, SourceOrigin, query_hash
 from tui.intake.sources.dialect import Dialect
@@ -96,7 +100,12 @@ class DuckDBSource(ReducedInEngine):
         relation = self.relation
         self._columns = [SourceColumn(r[0], r[1], _numeric(r[1])) for r in described]
         self._reduction = SqlReduction(
-            self.dialect, self._run, relation, self._columns, sketch_from=SKETCH_FROM_ROWS
+            self.dialect,
+            self._run,
+            relation,
+            self._columns,
+            sketch_from=SKETCH_FROM_ROWS,
+            arrays=self._arrays,
         )
 
     def _set_up(self, relation: str, staged: str | None) -> str:
@@ -136,6 +145,13 @@ class DuckDBSource(ReducedInEngine):
     def _run(self, sql: str) -> list[tuple[Any, ...]]:
         try:
             return self._con.execute(sql).fetchall()
+        except self._duckdb.Error as problem:
+            first = str(problem).splitlines()[0] if str(problem) else type(problem).__name__
+            raise InputProblem(f"{self.label}: {first}") from None
+
+    def _arrays(self, sql: str) -> list[np.ndarray]:
+        try:
+            return list(self._con.execute(sql).fetchnumpy().values())
         except self._duckdb.Error as problem:
             first = str(problem).splitlines()[0] if str(problem) else type(problem).__name__
             raise InputProblem(f"{self.label}: {first}") from None

@@ -11,7 +11,8 @@
    bins one column a query (DuckDB by an ASOF join, ``bin_join.py``); Spark takes the
    quantiles from sketches, a few columns a query, and counts bins, gaps and distinct
    values one column a query over the bin numbers its ``Bucketizer`` finds
-   (``bucket_pass.py``). DuckDB from ``sketch_from`` rows on: two scans for all binned
+   (``bucket_pass.py``). DuckDB from ``sketch_from`` rows on: one GROUP BY a column over
+   a fine lattice of its range (``lattice_pass.py``), else two scans for all binned
    columns, approximate quantiles and exact bin counts (``sketch_pass.py``).
 
 Every answer is per column, per distinct value or per bin; no row leaves the engine.
@@ -30,6 +31,7 @@ from tui.intake.sources import (
     bin_join,
     bins,
     bucket_pass,
+    lattice_pass,
     lookups,
     sketch_pass,
     sorted_pass,
@@ -62,12 +64,17 @@ class SqlReduction:
         columns: Sequence[SourceColumn],
         bucketize: Bucketize | None = None,
         sketch_from: int | None = None,
+        arrays: lattice_pass.Arrays | None = None,
     ) -> None:
         self.dialect, self.run, self.relation = dialect, run, relation
         self.bucketize = bucketize
         self.sketch_from = sketch_from
-        """From this many rows with an outcome, binned columns are sketched
-        (``sketch_pass.py``, approximate); None: always the exact passes."""
+        """From this many rows with an outcome, binned columns are counted on a lattice
+        (``lattice_pass.py``, with ``arrays``) or sketched (``sketch_pass.py``), both
+        approximate; None: always the exact passes."""
+        self.arrays = arrays
+        """Runs a statement and returns its answer's columns as arrays (the lattice's
+        answers have up to a quarter of a million rows)."""
         self.columns = {c.name: c for c in columns}
         self._y = ""
         self._outcome = ""
@@ -154,7 +161,14 @@ class SqlReduction:
             exact = [i for i in exact if i not in set(many)]
             binned = sorted(binned + many)
         if binned and self.sketch_from is not None and outcome.rows >= self.sketch_from:
-            tables.update(self._sketched_counts(base, binned, stats, plan))
+            if self.arrays is not None:
+                done = lattice_pass.reduce_binned(
+                    self.run, self.arrays, base, binned, stats, plan, self.dialect
+                )
+                tables.update(done)
+                binned = [i for i in binned if i not in done]
+            if binned:
+                tables.update(self._sketched_counts(base, binned, stats, plan))
             binned = []
         order = self._order_stats(base, binned, stats, plan)
         few = [i for i in binned if not _binned_by(stats[i], plan)]  # the estimate was off
@@ -180,7 +194,7 @@ class SqlReduction:
                     trials,
                     events,
                     i in exact,
-                    int(distinct),
+                    int(min(distinct, n)),  # an estimate can pass the rows
                     None if low is None else float(low),
                     None if high is None else float(high),
                     gap,

@@ -13,8 +13,8 @@ import pytest
 from source_cases import binned_frame, scan_json
 
 import tui.intake.sources.duckdb_source as duckdb_source
+from tui import lattice_bins
 from tui.engine.pushed import bin_plan
-from tui.intake.sources import lattice_bins
 from tui.intake.sources.duckdb_source import open_file_through_duckdb
 
 ROWS = 100_000

@@ -4,7 +4,7 @@ Sorting a million doubles costs tens of milliseconds, more than every fit of the
 first pass together. A lattice of ``CELLS`` equal cells between the smallest and largest
 value needs only bincounts: rows, events and the sum of x in each cell. Cells are so narrow
 (a 262,144th of the range) that the binned reduction can be built from them
-(``tui.intake.sources.lattice_bins``, which DuckDB's pushed-down reduction shares):
+(``tui.lattice_bins``, which DuckDB's pushed-down reduction shares):
 
 - bins are unions of whole cells, so no run of tied values is ever split and each bin's rows,
   events and mean x are exact; the cuts follow the sorted path's rule (half at equal counts,
@@ -36,9 +36,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from tui import lattice_bins as LB
 from tui.engine.heap import reuse_freed_memory
-from tui.intake.sources import lattice_bins as LB
-from tui.intake.sources.lattice_bins import CELLS, SPREAD_CELLS
+from tui.lattice_bins import CELLS, SPREAD_CELLS
 
 __all__ = ["CELLS", "LATTICE_ROWS", "SPREAD_CELLS", "LatticeCounts", "lattice_counts"]
 

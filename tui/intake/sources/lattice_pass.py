@@ -24,7 +24,7 @@ from typing import Any
 
 import numpy as np
 
-from tui.intake.sources import lattice_bins as LB
+from tui import lattice_bins as LB
 from tui.intake.sources.base import BinPlan
 from tui.intake.sources.dialect import Dialect
 

@@ -1,7 +1,8 @@
 """Bins from counts per cell of a fine lattice over a column's range.
 
-The file scan's reduction of long columns (``tui.engine.lattice``) and an engine's pushed-
-down one (DuckDB, ``reduce.py``) both count rows, events and summed x in ``CELLS`` equal
+A root module (numpy only), since two rooms share it: the file scan's reduction of long
+columns (``tui.engine.lattice``) and an engine's pushed-down one (DuckDB,
+``tui.intake.sources.lattice_pass``). Both count rows, events and summed x in ``CELLS`` equal
 cells between the column's smallest and largest value, and read the few cells that need
 it value by value. This module turns those counts into the binned reduction (see
 ``tui.engine.lattice`` for the rules and their error): bins of whole cells cut as the

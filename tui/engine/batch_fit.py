@@ -18,6 +18,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from tui.engine import dense
+
 _MAX_ITER = 50
 _RANK_MARGIN = 1e-6
 """A design whose QR diagonal falls within this share of its largest is left to the single
@@ -97,12 +99,14 @@ def fit_stack(
         gram = None if gram is None else gram[idx]
     if not np.all(trials >= 0):  # the Gram matrix was weighted by max(trials, 0)
         gram = None
-    ll, ok, beta = _newton(zt, events, trials, tol, gram)
+    ll, ok, beta, eta = _newton(zt, events, trials, tol, gram)
     if refine_within is not None and ok.any():
         best = float(ll[ok].max())
         near = np.flatnonzero(ok & (ll >= best - refine_within * (abs(best) + 1.0)))
         if near.size:
-            good, beta[near], ll[near] = _refine(zt[near], beta[near], ll[near], events, trials)
+            good, beta[near], ll[near] = _refine(
+                zt[near], beta[near], eta[near], ll[near], events, trials
+            )
             ok[near[~good]] = False
             refined[idx[near[good]]] = True
     llf[idx] = np.where(ok, ll, np.nan)
@@ -196,10 +200,10 @@ def _newton(
     trials: np.ndarray,
     tol: float,
     gram: np.ndarray | None = None,
-) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Plain Newton-Raphson (iteratively reweighted least squares) on every member at once;
-    returns log-likelihoods, which members converged cleanly and their coefficients on the
-    scaled columns (members × columns).
+    returns log-likelihoods, which members converged cleanly, their coefficients on the
+    scaled columns (members × columns) and their log-odds (members × rows).
 
     No step halving: a member whose steps do not shrink, or whose log-odds run off, is
     simply left unsettled for the single fit, which halves steps and judges separation.
@@ -232,16 +236,13 @@ def _newton(
             hess = gram * (rate * (1.0 - rate))
         else:
             grad, hess = _gradient_hessian(za, eta, events, trials)
-        try:
-            step = np.linalg.solve(hess, grad)
-        except np.linalg.LinAlgError:
-            step = np.stack([_solve_or_nan(h, g) for h, g in zip(hess, grad, strict=True)])
+        step = _solve(hess, grad)
         decrement = (grad * step).sum(axis=(1, 2))
         bad = ~np.isfinite(decrement) | (decrement < 0)
         step[bad] = 0.0
         beta += step.transpose(0, 2, 1)
         eta = (beta @ za)[:, 0, :]
-        runaway = (eta.max(axis=1) > _SEPARATION_ETA) | (eta.min(axis=1) < -_SEPARATION_ETA)
+        runaway = np.abs(eta).max(axis=1) > _SEPARATION_ETA
         done = (decrement <= limit) & ~bad
         broken[active[bad | (runaway & ~done)]] = True
         converged[active[done]] = True
@@ -257,7 +258,7 @@ def _newton(
     ll = np.full(k, np.nan)
     if ok.any():
         ll[ok] = _loglik(final_eta[ok], events, trials)
-    return ll, ok, final_beta
+    return ll, ok, final_beta, final_eta
 
 
 _REFINE_STEPS = 4
@@ -268,9 +269,15 @@ they stay far above it."""
 
 
 def _refine(
-    zt: np.ndarray, beta: np.ndarray, ll: np.ndarray, events: np.ndarray, trials: np.ndarray
+    zt: np.ndarray,
+    beta: np.ndarray,
+    eta: np.ndarray,
+    ll: np.ndarray,
+    events: np.ndarray,
+    trials: np.ndarray,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Newton steps from converged coefficients (on the scaled columns) until every step
+    """Newton steps from converged coefficients (on the scaled columns; ``eta`` their
+    log-odds) until every step
     is below ``_REFINE_STOP`` of the coefficients' size; returns which members ended
     cleanly, their coefficients and log-likelihoods.
 
@@ -282,27 +289,29 @@ def _refine(
     reach ``_SEPARATION_ETA``, whose refined log-likelihood fell beyond rounding, or
     which turned non-finite.
     """
-    b = beta[:, None, :].copy()
-    going = np.ones(len(b), dtype=bool)
+    out = beta.copy()
+    stopped = np.zeros(len(beta), dtype=bool)
+    # Working arrays hold the members still stepping, as in ``_newton``.
+    at, za, b, eta = np.arange(len(beta)), zt, beta.copy(), eta.copy()
     for _ in range(_REFINE_STEPS):
-        eta = (b[going] @ zt[going])[:, 0, :]
-        grad, hess = _gradient_hessian(zt[going], eta, events, trials)
-        try:
-            step = np.linalg.solve(hess, grad)
-        except np.linalg.LinAlgError:
-            step = np.stack([_solve_or_nan(h, g) for h, g in zip(hess, grad, strict=True)])
-        b[going] += step.transpose(0, 2, 1)
-        size = np.maximum(1.0, np.abs(b[going]).max(axis=(1, 2)))
-        moving = ~(np.abs(step).max(axis=(1, 2)) <= _REFINE_STOP * size)
-        going[np.flatnonzero(going)[~moving]] = False
-        if not going.any():
+        grad, hess = _gradient_hessian(za, eta, events, trials)
+        step = _solve(hess, grad)[:, :, 0]
+        b += step
+        size = np.maximum(1.0, np.abs(b).max(axis=1))
+        moving = ~(np.abs(step).max(axis=1) <= _REFINE_STOP * size)
+        out[at] = b
+        stopped[at[~moving]] = True
+        if not moving.any():
             break
-    eta = (b @ zt)[:, 0, :]
+        if not moving.all():
+            at, za, b = at[moving], za[moving], b[moving]
+        eta = (b[:, None, :] @ za)[:, 0, :]
+    eta = (out[:, None, :] @ zt)[:, 0, :]
     new_ll = _loglik(eta, events, trials)
-    good = ~going & np.isfinite(new_ll) & np.isfinite(b).all(axis=(1, 2))
+    good = stopped & np.isfinite(new_ll) & np.isfinite(out).all(axis=1)
     good &= new_ll >= ll - 1e-9 * (np.abs(ll) + 1.0)
     good &= np.abs(eta).max(axis=1) <= _SEPARATION_ETA
-    return good, b[:, 0, :], np.where(good, new_ll, ll)
+    return good, out, np.where(good, new_ll, ll)
 
 
 def _gradient_hessian(
@@ -321,6 +330,16 @@ def _gradient_hessian(
     grad = za @ resid[:, :, None]
     hess = (za * weight[:, None, :]) @ za.transpose(0, 2, 1)
     return grad, hess
+
+
+def _solve(hess: np.ndarray, grad: np.ndarray) -> np.ndarray:
+    """Every member's Newton step (members × columns × 1); NaN for a singular Hessian.
+    Through numpy's LAPACK kernel directly: numpy.linalg.solve's checks cost more than
+    the solves of a few unknowns."""
+    step = dense.solve(hess, grad[:, :, 0])
+    if step is None:  # some member singular or non-finite: member by member
+        return np.stack([_solve_or_nan(h, g) for h, g in zip(hess, grad, strict=True)])
+    return step[:, :, None]
 
 
 def _solve_or_nan(h: np.ndarray, g: np.ndarray) -> np.ndarray:

@@ -178,3 +178,26 @@ def test_refining_leaves_a_creeping_member_to_the_single_fit(rng):
     assert fit_stack(np.stack([design, design]), events, trials).settled.all()
     stack = fit_stack(np.stack([design, design]), events, trials, refine_within=np.inf)
     assert not stack.settled.any() and not stack.refined.any()
+
+
+@pytest.mark.parametrize("exact_below", [0, 10**9])
+def test_searches_sharing_a_stack_learn_what_each_learns_alone(rng, exact_below):
+    # compare_forms fits the searches of one width (FP1 with indicator, FP2 with hinge)
+    # as one stack; each must learn the member, status and fit of its own search.
+    from tui.engine.forms.registry import default_candidates
+
+    for x, y in _columns(rng):
+        counts = reduce_column(x, y, exact_below=exact_below)
+        candidates = default_candidates()
+        shared = searching.learn_searches(candidates, counts)
+        assert {candidates[n].kind for n in shared} == {"fp1", "fp2", "hinge", "indicator"}
+        for n, learned in shared.items():
+            alone = candidates[n].learn(counts)
+            assert learned.recoding == alone.recoding and learned.searched
+            fit = (
+                learned.fit if learned.fit is not None else fit_on_counts(learned.recoding, counts)
+            )
+            again = alone.fit if alone.fit is not None else fit_on_counts(alone.recoding, counts)
+            assert fit.ok == again.ok
+            assert fit.llf == pytest.approx(again.llf, rel=1e-12)
+            np.testing.assert_allclose(fit.coef, again.coef, rtol=1e-8, atol=1e-12)

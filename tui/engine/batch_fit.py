@@ -43,6 +43,12 @@ class BatchFits:
     refined: np.ndarray
     """Settled members whose coefficients were refined to the maximum (``refine_within``)."""
 
+    def __getitem__(self, members: slice) -> BatchFits:
+        """The figures of some members (a slice of the stack)."""
+        return BatchFits(
+            self.llf[members], self.settled[members], self.coef[members], self.refined[members]
+        )
+
 
 def fit_stack(
     designs: np.ndarray,
@@ -51,6 +57,7 @@ def fit_stack(
     tol: float = 1e-10,
     overwrite: bool = False,
     refine_within: float | None = None,
+    groups: np.ndarray | None = None,
 ) -> BatchFits:
     """Fit log-odds = designs[i] @ coef for every i (designs: members × rows × columns,
     intercept column first), all on the same events and trials. With ``overwrite`` the
@@ -61,13 +68,25 @@ def fit_stack(
     share of the best (``refine_within * (|best| + 1)``; ``inf`` for all) take further
     Newton steps until the steps vanish, so that their coefficients are the maximum to
     rounding, as close to it as ``fit_logistic``'s (``refined`` marks them; a member whose
-    further steps go wrong is left unsettled)."""
+    further steps go wrong is left unsettled). ``groups`` (a label per member) makes the
+    best that of each member's own group: several searches then share one stack.
+
+    Every member's figures are its own: whatever else is in the stack, they change only
+    by rounding (BLAS may sum in another order)."""
     designs = np.asarray(designs, dtype=float)
     k, m, p = designs.shape
     per = max(1, _CHUNK_FLOATS // max(1, m * p))
     if k > per:
         parts = [
-            fit_stack(designs[i : i + per], events, trials, tol, overwrite, refine_within)
+            fit_stack(
+                designs[i : i + per],
+                events,
+                trials,
+                tol,
+                overwrite,
+                refine_within,
+                None if groups is None else groups[i : i + per],
+            )
             for i in range(0, k, per)
         ]
         return BatchFits(
@@ -101,8 +120,7 @@ def fit_stack(
         gram = None
     ll, ok, beta, eta = _newton(zt, events, trials, tol, gram)
     if refine_within is not None and ok.any():
-        best = float(ll[ok].max())
-        near = np.flatnonzero(ok & (ll >= best - refine_within * (abs(best) + 1.0)))
+        near = _near_best(ll, ok, refine_within, None if groups is None else groups[idx])
         if near.size:
             good, beta[near], ll[near] = _refine(
                 zt[near], beta[near], eta[near], ll[near], events, trials
@@ -259,6 +277,20 @@ def _newton(
     if ok.any():
         ll[ok] = _loglik(final_eta[ok], events, trials)
     return ll, ok, final_beta, final_eta
+
+
+def _near_best(
+    ll: np.ndarray, ok: np.ndarray, within: float, groups: np.ndarray | None
+) -> np.ndarray:
+    """Indices of the ok members within ``within * (|best| + 1)`` of the best ok member
+    of their group (of all, without groups)."""
+    labels = np.zeros(ll.size, dtype=int) if groups is None else np.asarray(groups)
+    near = np.zeros(ll.size, dtype=bool)
+    for label in np.unique(labels[ok]):
+        mine = ok & (labels == label)
+        best = float(ll[mine].max())
+        near |= mine & (ll >= best - within * (abs(best) + 1.0))
+    return np.flatnonzero(near)
 
 
 _REFINE_STEPS = 4

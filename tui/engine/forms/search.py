@@ -10,12 +10,21 @@ fit is handed back with it, so the candidate does not fit it again.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 
-from tui.engine.batch_fit import fit_stack
+from tui.engine.batch_fit import BatchFits, fit_stack
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit
-from tui.engine.forms.base import Learned, Recoding, RecodingError, design_matrix, fit_on_counts
+from tui.engine.forms.base import (
+    Candidate,
+    Learned,
+    Recoding,
+    RecodingError,
+    design_matrix,
+    fit_on_counts,
+)
 
 _WINDOW = 1e-7
 """Members within this share of the best log-likelihood get their exact fits."""
@@ -109,9 +118,8 @@ def _stacked_keys(
         designs = np.stack(listed)
     finite = np.isfinite(designs).all(axis=(1, 2))
     at = np.flatnonzero(finite)
-    keys: list[Key] = [None] * len(recodings)
     if not at.size:
-        return keys
+        return [None] * len(recodings)
     # The designs are built here and not used again: the stack may scale them in place.
     # Members near the top are refined to the maximum, so their fits come from the stack.
     stack = fit_stack(
@@ -121,6 +129,20 @@ def _stacked_keys(
         overwrite=True,
         refine_within=_WINDOW,
     )
+    return _keys_from_stack(recodings, counts, at, stack, fits)
+
+
+def _keys_from_stack(
+    recodings: list[Recoding],
+    counts: ReducedCounts,
+    at: np.ndarray,
+    stack: BatchFits,
+    fits: dict[int, LogisticFit],
+) -> list[Key]:
+    """Keys from the stack of members ``at`` (the others get None): refined members with
+    their fits, members far below the best by their stacked log-likelihood, and the rest
+    fitted alone."""
+    keys: list[Key] = [None] * len(recodings)
     top = max((float(ll) for ll in stack.llf[stack.settled]), default=-np.inf)
     window = _WINDOW * (abs(top) + 1.0)
     alone: list[int] = []
@@ -137,6 +159,56 @@ def _stacked_keys(
     for i in alone:
         keys[i] = _single_keys(recodings, counts, [i], fits)[i]
     return keys
+
+
+def learn_searches(candidates: Sequence[Candidate], counts: ReducedCounts) -> dict[int, Learned]:
+    """What each searching candidate learns (by its index), as its own ``learn`` would:
+    the searches whose designs are of one width are fitted as one stack, each member
+    judged within its own search, so the stack's fixed costs are paid once. A candidate
+    left out (no search, covariates, designs not stackable or not finite, nothing
+    usable) learns by itself."""
+    if counts.covariates is not None:
+        return {}
+    by_width: dict[int, list[tuple[int, list[Recoding], np.ndarray]]] = {}
+    for n, candidate in enumerate(candidates):
+        try:
+            options = candidate.search_options(counts)
+            designs = (
+                None if not options or len(options) <= 2 else stacked_designs(options, counts.x)
+            )
+        except (RecodingError, ValueError, np.linalg.LinAlgError):
+            continue
+        if options is None or designs is None or not np.all(np.isfinite(designs)):
+            continue
+        # Held column by column (members × columns × rows), as stacked_designs builds them.
+        by_width.setdefault(designs.shape[2], []).append((n, options, designs.transpose(0, 2, 1)))
+    learned: dict[int, Learned] = {}
+    for searches in by_width.values():
+        columns = np.concatenate([c for _, _, c in searches])
+        groups = np.repeat(np.arange(len(searches)), [len(o) for _, o, _ in searches])
+        try:
+            stack = fit_stack(
+                columns.transpose(0, 2, 1),
+                counts.events,
+                counts.trials,
+                overwrite=True,
+                refine_within=_WINDOW,
+                groups=groups,
+            )
+        except (ValueError, np.linalg.LinAlgError):
+            continue
+        start = 0
+        for n, options, _ in searches:
+            part = slice(start, start + len(options))
+            start = part.stop
+            fits: dict[int, LogisticFit] = {}
+            every = np.arange(len(options))
+            try:
+                chosen = _choose(_keys_from_stack(options, counts, every, stack[part], fits))
+            except (RecodingError, ValueError, np.linalg.LinAlgError):
+                continue
+            learned[n] = Learned(options[chosen], searched=True, fit=fits.get(chosen))
+    return learned
 
 
 def _stacked_fit(coef: np.ndarray, llf: float, nobs: float) -> LogisticFit:

@@ -11,6 +11,7 @@ from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit, fit_logistic, lr_test
 from tui.engine.forms.base import Candidate, Kind, Learned, Recoding, RecodingError, fit_on_counts
 from tui.engine.forms.registry import default_candidates
+from tui.engine.forms.search import learn_searches
 from tui.engine.forms.shift import learn_shift
 from tui.engine.heap import reuse_freed_memory
 
@@ -147,11 +148,15 @@ class ComparisonTable:
 
 
 def fit_candidate(
-    candidate: Candidate, counts: ReducedCounts, linear: FormFit | None = None
+    candidate: Candidate,
+    counts: ReducedCounts,
+    linear: FormFit | None = None,
+    learned: Learned | None = None,
 ) -> FormFit:
-    """Learn and fit one candidate; a failure is a status, never an exception."""
+    """Learn and fit one candidate; a failure is a status, never an exception.
+    ``learned``: what the candidate learns, when already learned (``learn_searches``)."""
     try:
-        learned = candidate.learn(counts)
+        learned = candidate.learn(counts) if learned is None else learned
         fit = learned.fit if learned.fit is not None else fit_on_counts(learned.recoding, counts)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
         return _failed(candidate, str(problem))
@@ -305,7 +310,11 @@ def compare_forms(
     # The searches stack tens of designs: temporaries of about 1 MB per Newton step, each a
     # fresh mapping (kernel page faults) unless freed blocks are kept for reuse.
     reuse_freed_memory()
-    linear = fit_candidate(candidates[0], counts)
-    rows = [linear] + [fit_candidate(c, counts, linear) for c in candidates[1:]]
+    searched = learn_searches(candidates, counts)
+    linear = fit_candidate(candidates[0], counts, learned=searched.get(0))
+    rows = [linear] + [
+        fit_candidate(c, counts, linear, searched.get(n))
+        for n, c in enumerate(candidates[1:], start=1)
+    ]
     quadratic = next((r.fit for r in rows if r.key == "quadratic"), None)
     return ComparisonTable(tuple(rows), box_tidwell(counts, linear.fit, quadratic))

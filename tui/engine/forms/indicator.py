@@ -58,8 +58,10 @@ class IndicatorKind(Kind):
         return ones.astype(float)[:, None]
 
     def apply_many(self, params: Sequence[Mapping[str, Any]], x: np.ndarray) -> np.ndarray:
-        cuts = np.array([float(p["cut"]) for p in params])
-        return (x[None, :] < cuts[:, None]).astype(float)[:, :, None]
+        cuts = np.array([float(p["cut"]) for p in params])[:, None]
+        above = np.array([side_of(p) == ABOVE for p in params])[:, None]
+        ones = np.where(above, x[None, :] >= cuts, x[None, :] < cuts)
+        return ones.astype(float)[:, :, None]
 
     def suffixes(self, params: Mapping[str, Any]) -> list[str]:
         return [side_of(params)]

@@ -3,18 +3,31 @@
 On reduced counts the members are fitted as one stack (``tui.engine.batch_fit``), their
 designs built in one go by the kind (``Kind.apply_many``); the choice is the same as
 fitting them one at a time, since every member near the top, and every member the stack
-cannot settle, is fitted alone before choosing. The chosen member's own fit is handed back
-with it, so the candidate does not fit it again.
+cannot settle, is fitted alone before choosing; the members near the top that it settles
+are refined to the maximum in the stack, their fits taken from it. The chosen member's own
+fit is handed back with it, so the candidate does not fit it again.
 """
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 
-from tui.engine.batch_fit import fit_stack
+from tui.engine.batch_fit import BatchFits, fit_stack
 from tui.engine.counts import ReducedCounts
 from tui.engine.fitting import LogisticFit
-from tui.engine.forms.base import Learned, Recoding, RecodingError, design_matrix, fit_on_counts
+from tui.engine.forms.base import (
+    Candidate,
+    Learned,
+    Recoding,
+    RecodingError,
+    design_matrix,
+    fit_on_counts,
+)
+
+_WINDOW = 1e-7
+"""Members within this share of the best log-likelihood get their exact fits."""
 
 Key = tuple[bool, float] | None
 """(usable, log-likelihood) of a member; None where the form cannot be applied."""
@@ -94,8 +107,8 @@ def stacked_designs(recodings: list[Recoding], x: np.ndarray) -> np.ndarray | No
 def _stacked_keys(
     recodings: list[Recoding], counts: ReducedCounts, fits: dict[int, LogisticFit]
 ) -> list[Key]:
-    """Keys of every member: the stack ranks them, the members near the top and those it
-    cannot settle are fitted alone (``fits`` keeps those fits)."""
+    """Keys of every member: the stack ranks them and refines those near the top, the
+    members it cannot settle are fitted alone (``fits`` keeps the near and single fits)."""
     designs = stacked_designs(recodings, counts.x)
     if designs is None:
         listed = [design_matrix(rec, counts.x) for rec in recodings]
@@ -105,28 +118,111 @@ def _stacked_keys(
         designs = np.stack(listed)
     finite = np.isfinite(designs).all(axis=(1, 2))
     at = np.flatnonzero(finite)
-    keys: list[Key] = [None] * len(recodings)
     if not at.size:
-        return keys
+        return [None] * len(recodings)
     # The designs are built here and not used again: the stack may scale them in place.
+    # Members near the top are refined to the maximum, so their fits come from the stack.
     stack = fit_stack(
         designs[at] if at.size < finite.size else designs,
         counts.events,
         counts.trials,
         overwrite=True,
+        refine_within=_WINDOW,
     )
+    return _keys_from_stack(recodings, counts, at, stack, fits)
+
+
+def _keys_from_stack(
+    recodings: list[Recoding],
+    counts: ReducedCounts,
+    at: np.ndarray,
+    stack: BatchFits,
+    fits: dict[int, LogisticFit],
+) -> list[Key]:
+    """Keys from the stack of members ``at`` (the others get None): refined members with
+    their fits, members far below the best by their stacked log-likelihood, and the rest
+    fitted alone."""
+    keys: list[Key] = [None] * len(recodings)
     top = max((float(ll) for ll in stack.llf[stack.settled]), default=-np.inf)
-    window = 1e-7 * (abs(top) + 1.0)
+    window = _WINDOW * (abs(top) + 1.0)
     alone: list[int] = []
-    for i, ok, ll in zip(at.tolist(), stack.settled, stack.llf, strict=True):
-        if ok and ll < top - window:
-            keys[i] = (True, float(ll))  # far below the best: its exact value cannot matter
+    nobs = float(np.sum(counts.trials))
+    for j, i in enumerate(at.tolist()):
+        ll = float(stack.llf[j])
+        if stack.refined[j]:
+            keys[i] = (True, ll)
+            fits[i] = _stacked_fit(stack.coef[j], ll, nobs)
+        elif stack.settled[j] and ll < top - window:
+            keys[i] = (True, ll)  # far below the best: its exact value cannot matter
         else:
             alone.append(i)
-    for i, key in enumerate(_single_keys(recodings, counts, alone, fits)):
-        if i in fits:
-            keys[i] = key
+    for i in alone:
+        keys[i] = _single_keys(recodings, counts, [i], fits)[i]
     return keys
+
+
+def learn_searches(candidates: Sequence[Candidate], counts: ReducedCounts) -> dict[int, Learned]:
+    """What each searching candidate learns (by its index), as its own ``learn`` would:
+    the searches whose designs are of one width are fitted as one stack, each member
+    judged within its own search, so the stack's fixed costs are paid once. A candidate
+    left out (no search, covariates, designs not stackable or not finite, nothing
+    usable) learns by itself."""
+    if counts.covariates is not None:
+        return {}
+    by_width: dict[int, list[tuple[int, list[Recoding], np.ndarray]]] = {}
+    for n, candidate in enumerate(candidates):
+        try:
+            options = candidate.search_options(counts)
+            designs = (
+                None if not options or len(options) <= 2 else stacked_designs(options, counts.x)
+            )
+        except (RecodingError, ValueError, np.linalg.LinAlgError):
+            continue
+        if options is None or designs is None or not np.all(np.isfinite(designs)):
+            continue
+        # Held column by column (members × columns × rows), as stacked_designs builds them.
+        by_width.setdefault(designs.shape[2], []).append((n, options, designs.transpose(0, 2, 1)))
+    learned: dict[int, Learned] = {}
+    for searches in by_width.values():
+        columns = np.concatenate([c for _, _, c in searches])
+        groups = np.repeat(np.arange(len(searches)), [len(o) for _, o, _ in searches])
+        try:
+            stack = fit_stack(
+                columns.transpose(0, 2, 1),
+                counts.events,
+                counts.trials,
+                overwrite=True,
+                refine_within=_WINDOW,
+                groups=groups,
+            )
+        except (ValueError, np.linalg.LinAlgError):
+            continue
+        start = 0
+        for n, options, _ in searches:
+            part = slice(start, start + len(options))
+            start = part.stop
+            fits: dict[int, LogisticFit] = {}
+            every = np.arange(len(options))
+            try:
+                chosen = _choose(_keys_from_stack(options, counts, every, stack[part], fits))
+            except (RecodingError, ValueError, np.linalg.LinAlgError):
+                continue
+            learned[n] = Learned(options[chosen], searched=True, fit=fits.get(chosen))
+    return learned
+
+
+def _stacked_fit(coef: np.ndarray, llf: float, nobs: float) -> LogisticFit:
+    """The fit of a member the stack settled and refined: converged, full rank (the
+    stack's rank margin is wider than ``fit_logistic``'s) and clear of separation."""
+    return LogisticFit(
+        coef=coef.copy(),
+        llf=llf,
+        nobs=nobs,
+        n_params=coef.size,
+        converged=True,
+        separated=False,
+        rank_deficient=False,
+    )
 
 
 def _choose(keys: list[Key]) -> int:

@@ -48,6 +48,11 @@ BATCH_VALUES = 200_000
 """Values a worker holds per batch at most (rows x columns): long columns go one a task."""
 BATCHES_PER_WORKER = 4
 """Batches are kept small enough that every worker gets at least this many."""
+FORMS_BATCH_VALUES = 4_000
+"""Second pass: columns whose counts hold fewer x positions than this go several a task
+(up to ``BATCH_COLUMNS``, and this many positions in all), so that the parent's share of a
+task (sending the counts, receiving the result) is paid once for them; a column asked for
+(``prioritise``) always goes alone."""
 
 
 @dataclass(frozen=True)
@@ -109,6 +114,7 @@ class TwoPassScan:
         self._names = set(self.columns)
         self._ordered = False  # the second pass's queue is built
         self._jumped: list[str] = []  # asked for during the first pass, latest first
+        self._asked: set[str] = set()  # asked for at any time: fitted alone, not batched
 
     def prioritise(self, column: str) -> bool:
         """Fit this column's forms next (also when asked during the first pass); False
@@ -117,10 +123,12 @@ class TwoPassScan:
             if column in self._queue:
                 self._queue.remove(column)
                 self._queue.insert(0, column)
+                self._asked.add(column)
                 return True
             if self._ordered or column not in self._names:
                 return False
             self._jumped = [column] + [c for c in self._jumped if c != column]
+            self._asked.add(column)
             return True
 
     def __iter__(self) -> Iterator[ScanStep]:
@@ -218,26 +226,55 @@ class TwoPassScan:
     def _second_on(self, executor: ProcessPoolExecutor, limit: int) -> Iterator[ScanStep]:
         """The second pass on worker processes, on the counts the first pass kept."""
         total = len(self.columns)
-        second: dict[Future[ColumnScan], str] = {}
+        second: dict[Future[list[ColumnScan]], list[str]] = {}
         finished = 0
         while True:
             while len(second) < limit:
-                name = self._next()
-                if name is None:
-                    break
-                reduced = self._reduced.pop(name)
-                if not _needs_forms(reduced, self._first_results[name]):
+                batch: list[tuple[str, ReducedColumn]] = []
+                skipped: list[ColumnScan] = []
+                while len(batch) < BATCH_COLUMNS:
+                    name = self._next_for(batch)
+                    if name is None:
+                        break
+                    reduced = self._reduced.pop(name)
+                    if not _needs_forms(reduced, self._first_results[name]):
+                        skipped.append(self._first_results[name])
+                        continue
+                    batch.append((name, reduced))
+                    if not self._room_after(batch):
+                        break
+                for scan in skipped:
                     finished += 1
-                    yield ScanStep("forms", self._first_results[name], finished, total)
-                    continue
-                second[executor.submit(_forms_given, name, reduced, self._settings)] = name
+                    yield ScanStep("forms", scan, finished, total)
+                if not batch:
+                    break
+                task = executor.submit(_forms_given_many, batch, self._settings)
+                second[task] = [name for name, _ in batch]
             if not second:
                 break
             done, _ = wait(second, return_when=FIRST_COMPLETED)
             for future in done:
                 second.pop(future)
-                finished += 1
-                yield ScanStep("forms", future.result(), finished, total)
+                for scan in future.result():
+                    finished += 1
+                    yield ScanStep("forms", scan, finished, total)
+
+    def _next_for(self, batch: list[tuple[str, ReducedColumn]]) -> str | None:
+        """The next column for a second-pass batch; a column asked for starts a batch of
+        its own (None once the batch holds others)."""
+        with self._lock:
+            if not self._queue:
+                return None
+            if batch and (batch[0][0] in self._asked or self._queue[0] in self._asked):
+                return None
+            return self._queue.pop(0)
+
+    def _room_after(self, batch: list[tuple[str, ReducedColumn]]) -> bool:
+        """Whether another column may join the batch."""
+        if batch[0][0] in self._asked:
+            return False
+        held = sum(reduced.counts.distinct for _, reduced in batch)
+        return held < FORMS_BATCH_VALUES
 
     def _reduce(self, name: str) -> ReducedColumn:
         if self._reduced_of is not None:
@@ -317,10 +354,12 @@ def _first_given(
         return [(_first(name, reduced, settings), None)]
 
 
-def _forms_given(name: str, reduced: ReducedColumn, settings: ScanSettings) -> ColumnScan:
-    """Worker task: second pass (every form) on counts kept by the parent."""
+def _forms_given_many(
+    batch: list[tuple[str, ReducedColumn]], settings: ScanSettings
+) -> list[ColumnScan]:
+    """Worker task: second pass (every form) on counts kept by the parent, a few columns."""
     with one_blas_thread():
-        return _scan_reduced(name, reduced, settings)[0]
+        return [_scan_reduced(name, reduced, settings)[0] for name, reduced in batch]
 
 
 _INHERITED: (

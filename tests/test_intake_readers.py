@@ -14,7 +14,6 @@ import pytest
 from pandas.api.types import is_numeric_dtype
 
 from tui.intake import SUPPORTED, list_columns, read_column, read_table
-from tui.intake import readers as readers_module
 from tui.intake.readers import drop_cached_table
 from tui.problems import InputProblem
 
@@ -232,7 +231,7 @@ def test_read_column_on_text_parses_file_once_then_notices_changes(
         parses.append(kwargs.get("engine"))
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(readers_module.pd, "read_csv", counting)
+    monkeypatch.setattr(pd, "read_csv", counting)  # the readers import pandas when called
     for name in SEEDLINGS.columns:
         read_column(path, name)
     assert len(parses) == 1

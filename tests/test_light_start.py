@@ -83,3 +83,38 @@ def test_scan_parser_loads_neither_the_app_nor_the_report():
     scan, every = out.stdout.splitlines()
     assert scan == "scan: []"
     assert "tui.report" in every
+
+
+def test_parquet_scan_never_imports_pandas(tmp_path):
+    # A Parquet scan reads through pyarrow alone: numbers, booleans with gaps, text with
+    # blanks and a text outcome, written here by pyarrow (no pandas metadata).
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    rng = np.random.default_rng(11)
+    rows = 400
+    size = rng.normal(size=rows)
+    event = rng.random(rows) < 1 / (1 + np.exp(-(size**2 - 1)))
+    table = pa.table(
+        {
+            "status": pa.array(np.where(event, "failed", "held").tolist()),
+            "size": pa.array(size),
+            "count": pa.array(rng.integers(0, 30, rows)),
+            "gappy": pa.array([None if i % 9 == 0 else float(i % 13) for i in range(rows)]),
+            "flag": pa.array([None if i % 5 == 0 else bool(i % 2) for i in range(rows)]),
+            "site": pa.array([["north", " ", None][i % 3] for i in range(rows)]),
+        }
+    )
+    data, out = tmp_path / "parts.parquet", tmp_path / "scan.csv"
+    pq.write_table(table, data)
+    code = (
+        "import sys\n"
+        "from tui.cli.main import main\n"
+        f"rc = main(['scan', {str(data)!r}, '--outcome', 'status', '--event', 'failed',\n"
+        f"           '--format', 'csv', '--output', {str(out)!r}])\n"
+        "print(rc, 'pandas' in sys.modules)"
+    )
+    ran = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert ran.stdout.split() == ["0", "False"], ran.stderr
+    lines = out.read_text().splitlines()
+    assert {line.split(",")[0] for line in lines[1:]} == {"size", "count", "gappy", "flag", "site"}

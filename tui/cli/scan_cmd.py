@@ -45,7 +45,7 @@ def add_parser(commands: argparse._SubParsersAction) -> None:
 
 def not_scanned(data: Dataset | ColumnarDataset, column: str) -> ColumnScan:
     """A non-numeric column, listed with its counts so that nothing is silently dropped."""
-    present = data.series(column).notna().to_numpy()
+    present = data.present(column)
     profile = next(p for p in data.skipped if p.name == column)
     return ColumnScan(
         column=column,

@@ -9,10 +9,9 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Protocol
+from typing import TYPE_CHECKING, Protocol
 
 import numpy as np
-import pandas as pd
 
 from tui.engine.covariates import CovariateDesign, CovariateError, build_covariates
 from tui.engine.forms.base import Recoding
@@ -20,6 +19,9 @@ from tui.intake.profile import is_numeric_column, numeric_values
 from tui.intake.weights import FREQUENCY, check_weights
 from tui.names import closest_names
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True, eq=False)

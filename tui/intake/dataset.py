@@ -3,7 +3,9 @@
 Parquet and Feather files store each column apart, so they are opened one column at a
 time (``ColumnarDataset``): the outcome is read once, then each column when it is asked
 for, and memory stays near one column plus the outcome however wide the file. Other
-formats are read whole (``Dataset``).
+formats are read whole (``Dataset``). A Parquet file's outcome, profiles and numbers come
+from pyarrow arrays, so a scan of one never imports pandas; text covariates, weights and
+stored types other than numbers, booleans and text still go through pandas.
 """
 
 from __future__ import annotations
@@ -13,15 +15,24 @@ import hashlib
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
-from tui.intake.outcome import CodedOutcome, code_outcome
-from tui.intake.profile import ColumnProfile, numeric_values, profile_column, profile_frame
+from tui.intake import arrow_columns
+from tui.intake.outcome import CodedOutcome, check_outcome_name, code_outcome, code_outcome_arrow
+from tui.intake.profile import (
+    ColumnProfile,
+    check_profile_names,
+    numeric_values,
+    profile_column,
+    profile_floats,
+    profile_frame,
+    profile_text_arrow,
+)
 from tui.intake.readers import (
     list_columns,
+    read_arrow,
     read_column,
     read_floats,
     read_floats_many,
@@ -29,6 +40,9 @@ from tui.intake.readers import (
 )
 from tui.names import shown_name
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 COLUMNAR = frozenset({".parquet", ".feather"})
 """Extensions opened one column at a time."""
@@ -82,8 +96,14 @@ class Dataset:
         """``raw_values`` of several columns."""
         return [self.raw_values(column) for column in columns]
 
+    def present(self, column: str) -> np.ndarray:
+        """Where one column holds a value, over the kept rows."""
+        return self.frame[column].notna().to_numpy()
+
 
 def _raw_floats(series: pd.Series) -> np.ndarray:
+    import pandas as pd
+
     if series.dtype == bool:
         series = series.astype(float)
     return pd.to_numeric(series, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
@@ -106,6 +126,7 @@ class ColumnarDataset:
         skipped: Sequence[ColumnProfile],
         excluded: Sequence[str],
         column_names: Sequence[str],
+        stored: dict[str, Any] | None = None,
     ) -> None:
         self.path = path
         """The file read (never modified)."""
@@ -117,6 +138,7 @@ class ColumnarDataset:
         """Columns left out on request."""
         self._numeric_names = list(numeric_names)
         self._column_names = list(column_names)
+        self._stored = stored or {}
 
     @property
     def columns(self) -> list[str]:
@@ -136,7 +158,17 @@ class ColumnarDataset:
     @functools.cached_property
     def numeric(self) -> tuple[ColumnProfile, ...]:
         """Profiles of the numeric columns (reads each of them once, one at a time)."""
-        return tuple(profile_column(self._kept(name), name) for name in self._numeric_names)
+        return tuple(self._profile(name) for name in self._numeric_names)
+
+    def _profile(self, name: str) -> ColumnProfile:
+        floats = read_floats(self.path, name)  # Parquet numbers: profiled without pandas
+        stored = self._stored.get(name)
+        if floats is None or stored is None:
+            return profile_column(self._kept(name), name)
+        # Nulls anywhere in the file's column decide its dtype, as when pandas reads it.
+        dtype = arrow_columns.dtype_named(stored, bool(np.isnan(floats).any()))
+        keep = self.outcome.keep
+        return profile_floats(floats if keep.all() else floats[keep], name, dtype)
 
     @functools.cached_property
     def frame(self) -> pd.DataFrame:
@@ -145,7 +177,12 @@ class ColumnarDataset:
 
     def values(self, column: str) -> np.ndarray:
         """Float values of one column for the kept rows (NaN for missing or ±inf)."""
-        return numeric_values(self._kept(column))
+        floats = read_floats(self.path, column)
+        if floats is None:
+            return numeric_values(self._kept(column))
+        floats = floats[self.outcome.keep]  # a copy: the caller may change it
+        floats[np.isinf(floats)] = np.nan
+        return floats
 
     def raw_values(self, column: str) -> np.ndarray:
         """Float values with ±inf kept (the engine counts them as non-finite)."""
@@ -170,6 +207,13 @@ class ColumnarDataset:
     def series(self, column: str) -> pd.Series:
         """One column as stored, for the kept rows (text covariates, weights)."""
         return self._kept(column)
+
+    def present(self, column: str) -> np.ndarray:
+        """Where one column holds a value, over the kept rows."""
+        array = read_arrow(self.path, column)
+        if array is None or arrow_columns.kind_of(array) is None:
+            return self._kept(column).notna().to_numpy()
+        return arrow_columns.present(array)[self.outcome.keep]
 
     def _kept(self, column: str) -> pd.Series:
         series = read_column(self.path, column)
@@ -239,11 +283,9 @@ def open_columnar(
     """
     path = Path(path)
     names = list_columns(path)
-    header = pd.DataFrame(columns=names)
-    if outcome not in names or names.count(outcome) > 1:
-        code_outcome(header, outcome, event)  # raises the same message as a whole read
-    coded = code_outcome(read_column(path, outcome).to_frame(outcome), outcome, event)
-    profile_frame(header, outcome, exclude)  # names repeated or excluded names unknown
+    check_outcome_name(outcome, names)  # the same messages as a whole read
+    coded = _code_columnar(path, outcome, event)
+    check_profile_names(names, outcome, exclude)  # names repeated or excluded names unknown
     stored = _stored_types(path)
     numeric: list[str] = []
     skipped: list[ColumnProfile] = []
@@ -253,13 +295,33 @@ def open_columnar(
         if _numeric_type(stored.get(name)):
             numeric.append(name)
             continue
-        series = read_column(path, name)
-        profile = profile_column(series[coded.keep].reset_index(drop=True), name)
+        profile = _profile_stored(path, name, coded.keep)
         if profile.numeric:
             numeric.append(name)
         else:
             skipped.append(profile)
-    return ColumnarDataset(path, coded, numeric, skipped, exclude, names)
+    return ColumnarDataset(path, coded, numeric, skipped, exclude, names, stored)
+
+
+def _code_columnar(path: Path, outcome: str, event: str | None) -> CodedOutcome:
+    """The outcome coded from the pyarrow column when its stored type allows, else as
+    pandas reads it."""
+    array = read_arrow(path, outcome)
+    coded = None if array is None else code_outcome_arrow(outcome, array, event)
+    if coded is None:
+        coded = code_outcome(read_column(path, outcome).to_frame(outcome), outcome, event)
+    return coded
+
+
+def _profile_stored(path: Path, name: str, keep: np.ndarray) -> ColumnProfile:
+    """Profile of a column whose stored type is not a number: text from the pyarrow
+    column, anything else (or any Feather column) as pandas reads it."""
+    array = read_arrow(path, name)
+    profile = None if array is None else profile_text_arrow(array, keep, name)
+    if profile is None:
+        series = read_column(path, name)
+        profile = profile_column(series[keep].reset_index(drop=True), name)
+    return profile
 
 
 def _stored_types(path: Path) -> dict[str, Any]:

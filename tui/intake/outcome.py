@@ -3,15 +3,19 @@
 from __future__ import annotations
 
 import shlex
+from collections.abc import Callable
 from dataclasses import dataclass
 from numbers import Number
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
+from tui.intake import arrow_columns
 from tui.names import closest_names
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True, eq=False)  # eq=False: comparing arrays field by field is ambiguous
@@ -42,7 +46,40 @@ def code_outcome(df: pd.DataFrame, column: str, event: str | None = None) -> Cod
     text, so it is matched against the values as text and, for numbers, numerically too.
     Raises ``InputProblem`` when the column is absent or does not have exactly two values.
     """
+    import pandas as pd
+
     names = [str(name) for name in df.columns]
+    check_outcome_name(column, names)
+    values = df.iloc[:, names.index(column)]
+    keep = values.notna().to_numpy(dtype=bool)
+    kept = values[keep]
+    return _coded(
+        column,
+        event,
+        keep,
+        pd.unique(kept),
+        lambda raw: (kept == raw).to_numpy(dtype=bool),
+    )
+
+
+def code_outcome_arrow(column: str, array: Any, event: str | None = None) -> CodedOutcome | None:
+    """``code_outcome`` of a Parquet column read by pyarrow (``read_arrow``), with the same
+    rules and messages; None for a stored type that only pandas judges."""
+    if arrow_columns.kind_of(array) is None:
+        return None
+    keep = arrow_columns.present(array)
+    kept = arrow_columns.kept_values(array, keep)
+    return _coded(
+        column,
+        event,
+        keep,
+        arrow_columns.distinct(kept),
+        lambda raw: arrow_columns.equal_to(kept, raw),
+    )
+
+
+def check_outcome_name(column: str, names: list[str]) -> None:
+    """Raise InputProblem when ``column`` is not one of ``names``, or is there twice."""
     if column not in names:
         near = closest_names(column, names)
         hint = f"; closest: {', '.join(near)}" if near else ""
@@ -50,11 +87,18 @@ def code_outcome(df: pd.DataFrame, column: str, event: str | None = None) -> Cod
     if names.count(column) > 1:
         raise InputProblem(f"outcome column '{column}' appears more than once in the file")
 
-    values = df.iloc[:, names.index(column)]
-    keep = values.notna().to_numpy(dtype=bool)
-    kept = values[keep]
+
+def _coded(
+    column: str,
+    event: str | None,
+    keep: np.ndarray,
+    found: Any,
+    equal: Callable[[Any], np.ndarray],
+) -> CodedOutcome:
+    """Code the kept rows from their distinct values ``found`` (as the column holds
+    them); ``equal(raw)`` marks the kept rows holding ``raw``."""
     # Each distinct value as found in the column, paired with its plain Python form.
-    levels = {_plain(raw): raw for raw in pd.unique(kept)}
+    levels = {_plain(raw): raw for raw in found}
 
     if len(levels) == 0:
         raise InputProblem(f"outcome column '{column}' has no non-missing values")
@@ -89,7 +133,7 @@ def code_outcome(df: pd.DataFrame, column: str, event: str | None = None) -> Cod
                 f"(its values are {first} and {second})"
             )
 
-    y = (kept == levels[chosen]).to_numpy(dtype=bool).astype(np.int8)
+    y = equal(levels[chosen]).astype(np.int8)
     y.setflags(write=False)
     keep.setflags(write=False)
     events = int(y.sum())

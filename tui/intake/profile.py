@@ -8,13 +8,16 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
-from pandas.api.types import is_bool_dtype, is_complex_dtype, is_numeric_dtype
 
+from tui.intake import arrow_columns
 from tui.names import closest_names
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True)
@@ -47,6 +50,8 @@ class ColumnProfile:
 
 def is_numeric_column(series: pd.Series) -> bool:
     """Whether the column counts as numeric: real numbers or booleans, not text or dates."""
+    from pandas.api.types import is_bool_dtype, is_complex_dtype, is_numeric_dtype
+
     dtype = series.dtype
     return bool(is_bool_dtype(dtype) or (is_numeric_dtype(dtype) and not is_complex_dtype(dtype)))
 
@@ -81,7 +86,13 @@ def profile_column(series: pd.Series, name: str) -> ColumnProfile:
             maximum=None,
             integer_valued=False,
         )
-    values = _as_float(series)
+    return profile_floats(_as_float(series), name, dtype)
+
+
+def profile_floats(values: np.ndarray, name: str, dtype: str) -> ColumnProfile:
+    """Profile a numeric column given as float64 (missing: NaN; ±inf kept), e.g. from
+    ``readers.read_floats``; ``dtype`` is the column's dtype as pandas names it."""
+    rows = len(values)
     nonfinite = int(np.isinf(values).sum())
     finite = values[np.isfinite(values)]
     n = len(finite)
@@ -100,6 +111,45 @@ def profile_column(series: pd.Series, name: str) -> ColumnProfile:
     )
 
 
+def profile_text_arrow(array: Any, keep: np.ndarray, name: str) -> ColumnProfile | None:
+    """``profile_column`` of the kept rows of a Parquet text column read by pyarrow; None
+    for a stored type this does not judge without pandas (numbers have ``profile_floats``)."""
+    if arrow_columns.kind_of(array) != arrow_columns.TEXT:
+        return None
+    rows = int(keep.sum())
+    present = arrow_columns.present(array) & keep
+    n = int(present.sum())
+    values = arrow_columns.kept_values(array, present)
+    return ColumnProfile(
+        name=name,
+        numeric=False,
+        dtype=arrow_columns.dtype_named(array.type, bool(array.null_count)),
+        rows=rows,
+        n=n,
+        missing=rows - n,
+        nonfinite=0,
+        distinct=len(arrow_columns.distinct(values)),
+        minimum=None,
+        maximum=None,
+        integer_valued=False,
+    )
+
+
+def check_profile_names(names: Sequence[str], outcome: str, exclude: Sequence[str] = ()) -> None:
+    """The name checks of ``profile_frame``: outcome present, no name repeated, every
+    excluded name a column."""
+    names = list(names)
+    if outcome not in names:
+        raise InputProblem(f"outcome column '{outcome}' not found")
+    repeated = sorted({name for name in names if names.count(name) > 1})
+    if repeated:
+        shown = ", ".join(f"'{name}'" for name in repeated)
+        raise InputProblem(f"column names appear more than once: {shown}")
+    unknown = [name for name in dict.fromkeys(exclude) if name not in names]
+    if unknown:
+        raise InputProblem(f"excluded columns not found: {_with_hints(unknown, names)}")
+
+
 def profile_frame(
     df: pd.DataFrame, outcome: str, exclude: Sequence[str] = ()
 ) -> tuple[list[ColumnProfile], list[ColumnProfile]]:
@@ -111,16 +161,7 @@ def profile_frame(
     column names that appear more than once.
     """
     names = [str(name) for name in df.columns]
-    if outcome not in names:
-        raise InputProblem(f"outcome column '{outcome}' not found")
-    repeated = sorted({name for name in names if names.count(name) > 1})
-    if repeated:
-        shown = ", ".join(f"'{name}'" for name in repeated)
-        raise InputProblem(f"column names appear more than once: {shown}")
-    unknown = [name for name in dict.fromkeys(exclude) if name not in names]
-    if unknown:
-        raise InputProblem(f"excluded columns not found: {_with_hints(unknown, names)}")
-
+    check_profile_names(names, outcome, exclude)
     skip = {outcome, *exclude}
     scan: list[ColumnProfile] = []
     skipped: list[ColumnProfile] = []

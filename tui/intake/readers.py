@@ -1,27 +1,32 @@
 """Read a data file into pandas, choosing the reader by the file's extension.
 
 Files are only ever opened for reading. Every failure to read becomes an ``InputProblem``
-naming the file, so the command line can print one line instead of a traceback.
+naming the file, so the command line can print one line instead of a traceback. pandas is
+imported by the readers that build frames, not on import: a Parquet scan reads its
+columns through pyarrow alone (``read_arrow``, ``read_floats``) and never needs it.
 """
 
 from __future__ import annotations
 
 import json
 import os
+import sys
 import threading
 import warnings
 from collections import Counter
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
 import numpy as np
-import pandas as pd
-from pandas.api.types import infer_dtype
 
+from tui.intake.arrow_columns import floats
 from tui.intake.header import check_names, text_header
 from tui.names import closest_names
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 PathLike = str | os.PathLike[str]
 T = TypeVar("T")
@@ -114,6 +119,15 @@ def read_column(path: PathLike, name: str) -> pd.Series:
     return frame[name]
 
 
+def read_arrow(path: PathLike, name: str) -> Any | None:
+    """One Parquet column as stored, as a pyarrow ChunkedArray (no pandas metadata
+    applied, no DataFrame built); None for any other file type."""
+    file, ext = _checked(path)
+    if ext != ".parquet":
+        return None
+    return _OPEN_PARQUET.arrow(file, name)
+
+
 def read_floats(path: PathLike, name: str) -> np.ndarray | None:
     """A Parquet column stored as numbers or booleans, as float64 (missing: NaN; ±inf
     kept), read without building a DataFrame; None for any other file or stored type.
@@ -197,13 +211,19 @@ class _OpenParquet:
             frame = _attempt(file, "Parquet", table.to_pandas)
         return _tidy(frame)[name]
 
+    def arrow(self, file: Path, name: str) -> Any:
+        with self._lock:
+            opened = self._open(file)
+            _require_columns(file, [name], self._names)
+            table = _attempt(
+                file, "Parquet", lambda: opened.read(columns=[name], use_pandas_metadata=False)
+            )
+        return table.column(0)
+
     def floats(self, file: Path, name: str) -> np.ndarray | None:
         return self.floats_many(file, [name])[0]
 
     def floats_many(self, file: Path, names: Sequence[str]) -> list[np.ndarray | None]:
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
         with self._lock:
             opened = self._open(file)
             _require_columns(file, list(names), self._names)
@@ -214,11 +234,8 @@ class _OpenParquet:
                 table = _attempt(
                     file, "Parquet", lambda: opened.read(columns=wanted, use_pandas_metadata=False)
                 )
-        found: dict[str, np.ndarray] = {}
-        for i, name in enumerate(wanted):
-            # Whole numbers past 2**53 round as pandas rounds them (safe=False: no refusal).
-            column = pc.cast(table.column(i), pa.float64(), safe=False)  # type: ignore[union-attr]
-            found[name] = np.asarray(column.to_numpy(), dtype=float)
+        # From the buffers: pyarrow's to_numpy would load pandas.
+        found = {name: floats(table.column(i)) for i, name in enumerate(wanted)}  # type: ignore[union-attr]
         # A name asked for twice gets its own copy: callers may change what they receive.
         out: list[np.ndarray | None] = []
         given: set[str] = set()
@@ -310,6 +327,8 @@ def _require_columns(file: Path, wanted: Sequence[str], present: Sequence[str]) 
 
 def _read(file: Path, ext: str, columns: list[str] | None) -> pd.DataFrame:
     """Dispatch on the extension, then tidy dtypes so all formats come back alike."""
+    import pandas as pd
+
     kind = _KIND[ext]
     if ext in _SEPARATORS or ext == ".txt":
         sep = _separator(file, ext)
@@ -354,6 +373,8 @@ def _read_text(file: Path, sep: str, columns: list[str] | None, kind: str) -> pd
 
 
 def _csv(file: Path, sep: str, engine: str, **options: Any) -> pd.DataFrame:
+    import pandas as pd
+
     if engine == "c":
         # index_col=False stops pandas from quietly turning an extra first field into the
         # index; low_memory=False infers each column's type from all of it, not in chunks.
@@ -380,6 +401,8 @@ def _separator(file: Path, ext: str) -> str:
 
 def _read_decimal_commas(frame: pd.DataFrame) -> pd.DataFrame:
     """Turn text columns that are all decimal-comma numbers (``3,75``) into numbers."""
+    import pandas as pd
+
     for position in range(frame.shape[1]):
         column = frame.iloc[:, position]
         if not (isinstance(column.dtype, pd.StringDtype) or column.dtype == object):
@@ -411,6 +434,9 @@ def _tidy(frame: pd.DataFrame) -> pd.DataFrame:
     as object, numbers would be skipped as text. Blank text is how several statistics
     packages store a missing string, so it becomes missing here.
     """
+    import pandas as pd
+    from pandas.api.types import infer_dtype
+
     if not isinstance(frame.index, pd.RangeIndex) or frame.index.start != 0:
         frame = frame.reset_index(drop=True)
     for position in range(frame.shape[1]):
@@ -462,6 +488,8 @@ def _without_index(schema: Any) -> list[str]:
 
 
 def _sas_names(file: Path, ext: str) -> list[str]:
+    import pandas as pd
+
     if ext == ".xpt" and _is_xport_v8(file):
         _, meta = _pyreadstat(_XPORT_V8_NEED).read_xport(str(file), metadataonly=True)
         return [str(name) for name in meta.column_names]
@@ -472,6 +500,8 @@ def _sas_names(file: Path, ext: str) -> list[str]:
 
 
 def _stata_names(file: Path) -> list[str]:
+    import pandas as pd
+
     with pd.read_stata(file, iterator=True) as reader:
         return list(reader.variable_labels())
 
@@ -525,9 +555,10 @@ def _reason(exc: BaseException) -> str:
             f"not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at position {exc.start}); "
             "save it as UTF-8"
         )
-    if isinstance(exc, pd.errors.EmptyDataError):
+    pd = sys.modules.get("pandas")  # an error pandas raised means pandas is loaded
+    if pd is not None and isinstance(exc, pd.errors.EmptyDataError):
         return "no columns found"
-    if isinstance(exc, pd.errors.ParserWarning):
+    if pd is not None and isinstance(exc, pd.errors.ParserWarning):
         return "some lines have more fields than the header"
     if isinstance(exc, PermissionError):
         return "permission denied"

@@ -12,11 +12,14 @@ survey-weighted columns by a robust Wald test instead (``engine/robust_wald.py``
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from tui.problems import InputProblem
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 FREQUENCY, SURVEY = "frequency", "survey"
 WEIGHT_KINDS = (FREQUENCY, SURVEY)
@@ -40,6 +43,8 @@ class RowWeights:
 
 def check_weights(series: pd.Series, column: str, kind: str = FREQUENCY) -> RowWeights:
     """Validate a weight column: numeric, finite, not negative; zero drops the row."""
+    import pandas as pd
+
     if kind not in WEIGHT_KINDS:
         raise InputProblem(f"weight kind must be one of {', '.join(WEIGHT_KINDS)}, not {kind!r}")
     if series.dtype == bool:

@@ -3,14 +3,17 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from tui.intake.profile import is_numeric_column, numeric_values
 from tui.names import closest_names
 from tui.problems import InputProblem
 from tui.recodings.model import Decision, RecodingLog
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True)
@@ -105,6 +108,8 @@ def range_excess(log: RecodingLog, frame: pd.DataFrame) -> list[RangeExcess]:
 
 def recode(decision: Decision, values: pd.Series) -> pd.DataFrame:
     """The output columns of one decision for one source column (missing x → missing)."""
+    import pandas as pd
+
     basis = decision.recoding.apply(numeric_values(values))
     return pd.DataFrame(basis, columns=list(decision.outputs), index=values.index)
 
@@ -118,6 +123,8 @@ def apply_to_frame(
     already holds a column named like an output. Values outside the training range are
     recoded as the recoding extrapolates; see ``range_excess`` to report them.
     """
+    import pandas as pd
+
     check_columns(log, frame, data_name)
     pieces = [recode(d, frame[d.column]) for d in log.decisions]
     return pd.concat([frame, *pieces], axis=1) if pieces else frame.copy()

@@ -36,10 +36,14 @@ def kind_of(array: Any) -> str | None:
     return None
 
 
-def dtype_named(kind: Any, gaps: bool) -> str:
-    """The dtype pandas gives a column stored as ``kind``, with or without nulls."""
+def dtype_named(kind: Any, gaps: bool, written_as: str | None = None) -> str:
+    """The dtype pandas gives a column stored as ``kind``, with or without nulls;
+    ``written_as``: the dtype the file's pandas metadata records for it, which pandas
+    restores when it is one of its own (nullable) types such as ``Int64`` or ``boolean``."""
     import pyarrow as pa
 
+    if written_as is not None and not _numpy_dtype(written_as):
+        return written_as
     if pa.types.is_string(kind) or pa.types.is_large_string(kind):
         return "str"
     if pa.types.is_boolean(kind):
@@ -47,6 +51,27 @@ def dtype_named(kind: Any, gaps: bool) -> str:
     if gaps and pa.types.is_integer(kind):
         return "float64"  # integers with gaps come back as floats
     return str(kind.to_pandas_dtype().__name__)
+
+
+def _numpy_dtype(name: str) -> bool:
+    try:
+        np.dtype(name)
+    except TypeError:
+        return False
+    return True
+
+
+def written_dtypes(schema: Any) -> dict[str, str]:
+    """Each column's dtype as the file's pandas metadata records it (none without it)."""
+    try:
+        meta = schema.pandas_metadata or {}
+    except ValueError:  # metadata that is not JSON: as if there were none
+        return {}
+    return {
+        str(c.get("name")): str(c["numpy_type"])
+        for c in meta.get("columns", [])
+        if c.get("numpy_type") is not None
+    }
 
 
 def floats(array: Any) -> np.ndarray:

@@ -127,6 +127,7 @@ class ColumnarDataset:
         excluded: Sequence[str],
         column_names: Sequence[str],
         stored: dict[str, Any] | None = None,
+        written: dict[str, str] | None = None,
     ) -> None:
         self.path = path
         """The file read (never modified)."""
@@ -139,6 +140,7 @@ class ColumnarDataset:
         self._numeric_names = list(numeric_names)
         self._column_names = list(column_names)
         self._stored = stored or {}
+        self._written = written or {}  # dtypes the file's pandas metadata records
 
     @property
     def columns(self) -> list[str]:
@@ -166,7 +168,8 @@ class ColumnarDataset:
         if floats is None or stored is None:
             return profile_column(self._kept(name), name)
         # Nulls anywhere in the file's column decide its dtype, as when pandas reads it.
-        dtype = arrow_columns.dtype_named(stored, bool(np.isnan(floats).any()))
+        gaps = bool(np.isnan(floats).any())
+        dtype = arrow_columns.dtype_named(stored, gaps, self._written.get(name))
         keep = self.outcome.keep
         return profile_floats(floats if keep.all() else floats[keep], name, dtype)
 
@@ -286,7 +289,7 @@ def open_columnar(
     check_outcome_name(outcome, names)  # the same messages as a whole read
     coded = _code_columnar(path, outcome, event)
     check_profile_names(names, outcome, exclude)  # names repeated or excluded names unknown
-    stored = _stored_types(path)
+    stored, written = _stored_types(path)
     numeric: list[str] = []
     skipped: list[ColumnProfile] = []
     for name in names:
@@ -300,7 +303,7 @@ def open_columnar(
             numeric.append(name)
         else:
             skipped.append(profile)
-    return ColumnarDataset(path, coded, numeric, skipped, exclude, names, stored)
+    return ColumnarDataset(path, coded, numeric, skipped, exclude, names, stored, written)
 
 
 def _code_columnar(path: Path, outcome: str, event: str | None) -> CodedOutcome:
@@ -324,9 +327,10 @@ def _profile_stored(path: Path, name: str, keep: np.ndarray) -> ColumnProfile:
     return profile
 
 
-def _stored_types(path: Path) -> dict[str, Any]:
-    """Arrow type of each column as stored; empty when the schema cannot say cheaply
-    (every column is then read once to profile it)."""
+def _stored_types(path: Path) -> tuple[dict[str, Any], dict[str, str]]:
+    """Arrow type of each column as stored, and the dtypes the file's pandas metadata
+    records; empty when the schema cannot say cheaply (every column is then read once to
+    profile it)."""
     import pyarrow as pa
 
     try:
@@ -338,8 +342,8 @@ def _stored_types(path: Path) -> dict[str, Any]:
             with pa.memory_map(str(path), "r") as source:
                 schema = pa.ipc.open_file(source).schema
     except (OSError, pa.ArrowException):
-        return {}
-    return {field.name: field.type for field in schema}
+        return {}, {}
+    return {field.name: field.type for field in schema}, arrow_columns.written_dtypes(schema)
 
 
 def _numeric_type(arrow_type: Any) -> bool:

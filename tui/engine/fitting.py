@@ -142,8 +142,9 @@ def _column_scaling(design: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray,
     col = cols / big[:, None]
     c = (col @ trials) / wsum
     s = np.sqrt((np.square(col - c[:, None]) @ trials) / wsum)
-    centre = np.concatenate(([0.0], c * big))
-    scale = np.concatenate(([1.0], np.where(s > 0, s * big, big)))
+    centre, scale = np.zeros(p), np.ones(p)
+    centre[1:] = c * big
+    scale[1:] = np.where(s > 0, s * big, big)
     return centre, scale
 
 
@@ -194,7 +195,7 @@ def fit_logistic(
     # centring and scaling alone leave two powers of a column with one extreme value
     # (z^-2 and z^-1 of a tiny shifted x) nearly collinear, and Newton then stalls.
     kept = zk.shape[1]
-    whiten = np.triu(packed[:kept, :kept]) / np.sqrt(max(nobs, 1e-300))
+    whiten = packed[:kept, :kept] / np.sqrt(max(nobs, 1e-300))  # R is upper triangular
     unwhiten = dense.inverse(whiten)
     if unwhiten is None:  # kept columns have pivots above 1e-9 of the largest: not seen
         raise np.linalg.LinAlgError("design too nearly collinear to whiten")
@@ -256,9 +257,10 @@ def fit_logistic(
     # Separation: no maximum exists, so Newton never settles, and the fitted log-odds run off
     # at rows that are all events or all non-events. A long tail can give |log-odds| > 30 at
     # a converged fit; that is a legitimate fit, not separation.
-    pure = (events <= 0) | (events >= trials)
-    extreme = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
-    separated = extreme and not converged
+    separated = False
+    if not converged:
+        pure = (events <= 0) | (events >= trials)
+        separated = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
 
     coef_scaled = np.zeros(p)
     coef_scaled[keep] = unwhiten @ beta
@@ -268,7 +270,7 @@ def fit_logistic(
         coef=coef,
         llf=ll,
         nobs=nobs,
-        n_params=int(keep.sum()),
+        n_params=kept,
         converged=converged,
         separated=separated,
         rank_deficient=rank_deficient,

@@ -178,20 +178,20 @@ def scan_counts(
     minimum = counts.minimum
     maximum = counts.maximum
     flags = F.profile_flags(rows, n, distinct, nonfinite, integer_valued, minimum)
-    base = ColumnScan(
-        column=column,
-        rows=rows,
-        n=n,
-        missing=rows - n,
-        events=int(round(counts.total_events)),
-        distinct=distinct,
-        flags=tuple(flags),
-        minimum=minimum,
-        maximum=maximum,
-        exact=counts.exact,
-    )
+    # Each result is built once from these (``replace`` costs as much as a fit's setup).
+    profile = {
+        "column": column,
+        "rows": rows,
+        "n": n,
+        "missing": rows - n,
+        "events": int(round(counts.total_events)),
+        "distinct": distinct,
+        "minimum": minimum,
+        "maximum": maximum,
+        "exact": counts.exact,
+    }
     if too_few_values(counts) or one_outcome_class(counts):
-        return base, None
+        return ColumnScan(flags=tuple(flags), **profile), None  # type: ignore[arg-type]
     # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
     # hinge, indicator); opening the column fits them all.
     candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
@@ -213,17 +213,17 @@ def scan_counts(
     if minority < 10 * (settings.knots - 1):
         flags.append(F.LOW_EVENTS)
     best = table.best() if forms else None
-    result = replace(
-        base,
-        flags=tuple(flags),
-        best_form=best.recoding.describe() if best and best.recoding else None,
-        delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
-        forms_fitted=forms,
-    )
+    fitted = {
+        **profile,
+        "flags": tuple(flags),
+        "best_form": best.recoding.describe() if best and best.recoding else None,
+        "delta_aic": (best.aic - linear.aic) if best and linear.status == "ok" else None,
+        "forms_fitted": forms,
+    }
     if spline is not None and spline.status == "failed" and linear.status == "ok":
-        return _values_scored(result, counts, table), table
+        return _values_scored(ColumnScan(**fitted), counts, table), table  # type: ignore[arg-type]
     if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
-        return result, table
+        return ColumnScan(**fitted), table  # type: ignore[arg-type]
     score, p_value, statistic = spline.lr_chi2, spline.lr_p, LR
     if counts.survey:
         # Survey weights: the sandwich Wald of the non-linear terms (Binder 1983).
@@ -232,18 +232,16 @@ def scan_counts(
             statistic = LR_APPROXIMATE
         else:
             score, p_value, statistic = wald.chi2, wald.p_value, WALD_ROBUST
-    return (
-        replace(
-            result,
-            score=score,
-            df=spline.lr_df,
-            p_value=p_value,
-            score_test=SPLINE_TEST,
-            statistic=statistic,
-            shape=_shape_hint(table, counts, forms),
-        ),
-        table,
+    scored = ColumnScan(
+        **fitted,  # type: ignore[arg-type]
+        score=score,
+        df=spline.lr_df,
+        p_value=p_value,
+        score_test=SPLINE_TEST,
+        statistic=statistic,
+        shape=_shape_hint(table, counts, forms),
     )
+    return scored, table
 
 
 def _values_scored(result: ColumnScan, counts: ReducedCounts, table: ComparisonTable) -> ColumnScan:

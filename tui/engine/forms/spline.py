@@ -60,13 +60,17 @@ def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
         u = np.maximum((xin - c) / span, 0.0)
         return u * u * u  # two products: numpy's ** 3 calls pow, several times slower
 
-    cols = [x]
+    # Terms the columns share are formed once (the same numbers as formed per column).
+    top = cube(penult)
+    run = 3.0 * (x - last)
+    out = np.empty((x.size, k - 1))
+    out[:, 0] = x
     for j in range(k - 2):
-        inside = cube(t[j]) - cube(penult) * (last - t[j]) / (last - penult)
+        inside = cube(t[j]) - top * (last - t[j]) / (last - penult)
         tail = (last - t[j]) / span * (penult - t[j]) / span
-        tail = tail * (2.0 * last - t[j] - penult + 3.0 * (x - last))
-        cols.append(np.where(beyond, tail, inside * span))
-    return np.column_stack(cols)
+        tail = tail * (2.0 * last - t[j] - penult + run)
+        out[:, j + 1] = np.where(beyond, tail, inside * span)
+    return out
 
 
 def learn_knots(counts: ReducedCounts, k: int) -> list[float]:

@@ -408,4 +408,4 @@ def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
         design = np.column_stack([design[:, :1], counts.covariates, design[:, 1:]])
     if not np.all(np.isfinite(design)):
         raise RecodingError("the form gives non-finite values on the training data")
-    return fit_logistic(design, counts.events, counts.trials)
+    return fit_logistic(design, counts.events, counts.trials, finite=True)

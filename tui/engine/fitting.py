@@ -151,10 +151,12 @@ def _column_scaling(
 
 
 def _largest_magnitude(v: np.ndarray) -> float:
-    """float(np.abs(v).max()) for a few coefficients, as Python floats (NaN if any is)."""
-    values = [abs(c) for c in v.tolist()]
-    top = max(values)
-    return float("nan") if any(c != c for c in values) else top
+    """float(np.abs(v).max()) for a few coefficients, read as Python floats."""
+    values = v.tolist()
+    total = sum(values)
+    if total != total:  # a NaN (or opposite infinities): numpy's rule for NaN
+        return float(np.abs(v).max())
+    return max(map(abs, values))
 
 
 def fit_logistic(

@@ -77,10 +77,19 @@ def learn_knots(counts: ReducedCounts, k: int) -> list[float]:
     """Knots at the tabulated percentiles; fails when fewer than 3 distinct knots result."""
     if k not in KNOT_PERCENTILES:
         raise RecodingError(f"a spline takes 3 to 7 knots, not {k}")
-    knots = np.unique(counts.quantile(KNOT_PERCENTILES[k]))
-    if knots.size < 3:
+    return knots_at(counts.quantile(KNOT_PERCENTILES[k]), k)
+
+
+def knots_at(quantiles: np.ndarray, k: int) -> list[float]:
+    """The distinct knots among the quantiles at ``KNOT_PERCENTILES[k]``, ascending."""
+    values = quantiles.tolist()
+    if all(a < b for a, b in zip(values[:-1], values[1:], strict=True)):
+        knots = values  # already distinct and ascending: what np.unique would return
+    else:
+        knots = [float(v) for v in np.unique(quantiles)]
+    if len(knots) < 3:
         raise RecodingError(f"too few distinct values for a {k}-knot spline")
-    return [float(v) for v in knots]
+    return knots
 
 
 def tied_knots_note(got: int, asked: int) -> str:

@@ -152,12 +152,16 @@ def fit_candidate(
     counts: ReducedCounts,
     linear: FormFit | None = None,
     learned: Learned | None = None,
+    design: np.ndarray | None = None,
 ) -> FormFit:
     """Learn and fit one candidate; a failure is a status, never an exception.
-    ``learned``: what the candidate learns, when already learned (``learn_searches``)."""
+    ``learned``: what the candidate learns, when already learned (``learn_searches``);
+    ``design``: its ``design_matrix`` on the counts' x, when already built."""
     try:
         learned = candidate.learn(counts) if learned is None else learned
-        fit = learned.fit if learned.fit is not None else fit_on_counts(learned.recoding, counts)
+        fit = learned.fit
+        if fit is None:
+            fit = fit_on_counts(learned.recoding, counts, design)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
         return _failed(candidate, str(problem))
     if fit.rank_deficient:

@@ -18,13 +18,14 @@ import numpy as np
 
 from tui.engine import flags as F
 from tui.engine.adjust import Adjustment
-from tui.engine.compare import ComparisonTable, compare_forms, fit_candidate
+from tui.engine.compare import ComparisonTable, compare_forms
 from tui.engine.counts import (
     DEFAULT_MAX_LEVELS,
     ReducedCounts,
     reduce_column,
     rows_with_covariates,
 )
+from tui.engine.first_fits import SHAPE_ENDS, CurveGrid, first_table, shape_grid
 from tui.engine.fittable import one_outcome_class, too_few_values
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
@@ -138,15 +139,24 @@ class ColumnScan:
         }
 
 
-def _shape_hint(table: ComparisonTable, counts: ReducedCounts, forms: bool = True) -> str:
+def _shape_hint(
+    table: ComparisonTable,
+    counts: ReducedCounts,
+    forms: bool = True,
+    curve: CurveGrid | None = None,
+) -> str:
     """The spline's shape; a step that a smooth spline blurs shows as a winning cut point
-    (known only once the forms are fitted)."""
+    (known only once the forms are fitted). ``curve``: the grid and the spline's outputs
+    on it, when formed already (``first_table``)."""
     spline = table.row(SPLINE.key)
     if spline is None or spline.fit is None:
         return LINEAR
-    lo, hi = counts.quantile([0.025, 0.975])
-    grid = np.linspace(lo, hi, 201)
-    shape = curve_shape(grid, spline.log_odds(grid))
+    if curve is not None and spline.recoding is not None:
+        shape = curve_shape(curve.grid, curve.log_odds(spline))
+    else:
+        lo, hi = counts.quantile(list(SHAPE_ENDS))
+        grid = shape_grid(lo, hi)
+        shape = curve_shape(grid, spline.log_odds(grid))
     best = table.best()
     if shape in TURNING or not forms or best is None or best.fit is None:
         return shape
@@ -195,14 +205,11 @@ def scan_counts(
     # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
     # hinge, indicator); opening the column fits them all.
     candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
+    curve = None
     if forms:
         table = compare_forms(counts, candidates)
     else:
-        linear_row = fit_candidate(candidates[0], counts)
-        spline_rows = [
-            fit_candidate(c, counts, linear_row) for c in candidates if c.kind == SPLINE.key
-        ]
-        table = ComparisonTable((linear_row, *spline_rows), None)
+        table, curve = first_table(candidates, counts)
     linear = table.linear
     spline = table.row(SPLINE.key)
     if any(r.status == "separation" for r in (linear, spline) if r is not None):
@@ -239,7 +246,7 @@ def scan_counts(
         p_value=p_value,
         score_test=SPLINE_TEST,
         statistic=statistic,
-        shape=_shape_hint(table, counts, forms),
+        shape=_shape_hint(table, counts, forms, curve),
     )
     return scored, table
 

@@ -401,9 +401,12 @@ def design_matrix(recoding: Recoding, x: np.ndarray) -> np.ndarray:
     return np.column_stack([np.ones(basis.shape[0]), basis])
 
 
-def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
-    """Fit intercept + the recoding's outputs to training counts."""
-    design = design_matrix(recoding, counts.x)
+def fit_on_counts(
+    recoding: Recoding, counts: ReducedCounts, design: np.ndarray | None = None
+) -> LogisticFit:
+    """Fit intercept + the recoding's outputs to training counts (``design``: that
+    ``design_matrix`` of the counts' x, when already built)."""
+    design = design_matrix(recoding, counts.x) if design is None else design
     if counts.covariates is not None:  # adjusted check: intercept, covariates, then the form
         design = np.column_stack([design[:, :1], counts.covariates, design[:, 1:]])
     if not np.all(np.isfinite(design)):

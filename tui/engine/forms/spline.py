@@ -164,6 +164,14 @@ class SplineCandidate(Candidate):
         return f"{SPLINE.label}, {self.knots} knots"
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        knots = learn_knots(counts, self.knots)
+        return self.learn_at(None, counts)
+
+    def learn_at(self, quantiles: np.ndarray | None, counts: ReducedCounts) -> Learned:
+        """``learn``, from the counts' quantiles at ``KNOT_PERCENTILES[self.knots]`` when
+        they are already taken (None: taken here)."""
+        if quantiles is None:
+            knots = learn_knots(counts, self.knots)
+        else:
+            knots = knots_at(quantiles, self.knots)
         remarks = () if len(knots) == self.knots else (tied_knots_note(len(knots), self.knots),)
         return Learned(Recoding(SPLINE, {"knots": knots}), remarks=remarks)

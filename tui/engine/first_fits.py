@@ -18,6 +18,7 @@ import numpy as np
 from tui.engine.compare import ComparisonTable, FormFit, fit_candidate
 from tui.engine.counts import ReducedCounts
 from tui.engine.forms.base import Candidate, RecodingError
+from tui.engine.forms.linear import LinearCandidate
 from tui.engine.forms.spline import KNOT_PERCENTILES, SPLINE, SplineCandidate, spline_basis
 
 SHAPE_ENDS = (0.025, 0.975)
@@ -48,7 +49,7 @@ def first_table(
 ) -> tuple[ComparisonTable, CurveGrid | None]:
     """Linear (the first candidate) and every spline candidate fitted, and the first
     spline's outputs on the shape hint's grid (None: form them from the row)."""
-    linear = fit_candidate(candidates[0], counts)
+    linear = fit_candidate(candidates[0], counts, design=_linear_design(candidates[0], counts))
     rows = [linear]
     curve = None
     for candidate in candidates:
@@ -58,6 +59,16 @@ def first_table(
         curve = on_grid if len(rows) == 1 else curve
         rows.append(row)
     return ComparisonTable(tuple(rows), None), curve
+
+
+def _linear_design(candidate: Candidate, counts: ReducedCounts) -> np.ndarray | None:
+    """Intercept and x, as ``design_matrix`` gives them for linear (None: let it)."""
+    x = counts.x
+    if not isinstance(candidate, LinearCandidate) or counts.covariates is not None or x.ndim != 1:
+        return None
+    if not np.isfinite(x).all():
+        return None
+    return np.column_stack([np.ones(x.size), x])
 
 
 def _spline_row(

@@ -116,8 +116,10 @@ def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> tuple[fl
     which the next Newton step's ``expit`` of the same eta needs again."""
     # ln(1 + e^eta) as max(eta, 0) + ln(1 + e^-|eta|), the steps numpy's logaddexp takes,
     # on vectorised exp and log1p: a third of logaddexp's time, equal to rounding.
-    low = np.exp(-np.abs(eta))
-    softplus = np.maximum(eta, 0.0) + np.log1p(low)
+    low = np.abs(eta)
+    np.exp(np.negative(low, out=low), out=low)  # in place: one array instead of three
+    softplus = np.maximum(eta, 0.0)
+    softplus += np.log1p(low)
     return float(events @ eta - trials @ softplus), low
 
 

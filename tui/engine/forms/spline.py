@@ -54,22 +54,30 @@ def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
     span = t[-1] - t[0]
     last, penult = t[-1], t[-2]
     beyond = x >= last
-    xin = np.where(beyond, last, x)  # inside pieces only see x up to the last knot
+    # Inside pieces only see x up to the last knot (rows beyond it take the tail, so their
+    # inside values are never read).
+    xin = np.minimum(x, last)
 
     def cube(c: float) -> np.ndarray:
-        u = np.maximum((xin - c) / span, 0.0)
-        return u * u * u  # two products: numpy's ** 3 calls pow, several times slower
+        u = np.subtract(xin, c)
+        np.maximum(np.divide(u, span, out=u), 0.0, out=u)
+        cubed = u * u  # two products: numpy's ** 3 calls pow, several times slower
+        return np.multiply(cubed, u, out=cubed)
 
-    # Terms the columns share are formed once (the same numbers as formed per column).
+    # Terms the columns share are formed once, and each step writes over its own
+    # temporary: the same numbers as the formula taken step by step per column.
     top = cube(penult)
     run = 3.0 * (x - last)
     out = np.empty((x.size, k - 1))
     out[:, 0] = x
     for j in range(k - 2):
-        inside = cube(t[j]) - top * (last - t[j]) / (last - penult)
-        tail = (last - t[j]) / span * (penult - t[j]) / span
-        tail = tail * (2.0 * last - t[j] - penult + run)
-        out[:, j + 1] = np.where(beyond, tail, inside * span)
+        inside = cube(t[j])
+        share = top * (last - t[j])
+        inside -= np.divide(share, last - penult, out=share)
+        inside *= span
+        tail = np.add(2.0 * last - t[j] - penult, run)
+        tail *= (last - t[j]) / span * (penult - t[j]) / span
+        out[:, j + 1] = np.where(beyond, tail, inside)
     return out
 
 

@@ -49,34 +49,33 @@ def first_table(
 ) -> tuple[ComparisonTable, CurveGrid | None]:
     """Linear (the first candidate) and every spline candidate fitted, and the first
     spline's outputs on the shape hint's grid (None: form them from the row)."""
-    linear = fit_candidate(candidates[0], counts, design=_linear_design(candidates[0], counts))
+    x = counts.x
+    plain = counts.covariates is None and x.ndim == 1 and bool(np.isfinite(x).all())
+    first = candidates[0]
+    design = np.column_stack([np.ones(x.size), x]) if plain and _is_linear(first) else None
+    linear = fit_candidate(first, counts, design=design)
     rows = [linear]
     curve = None
     for candidate in candidates:
         if candidate.kind != SPLINE.key:
             continue
-        row, on_grid = _spline_row(candidate, counts, linear)
+        row, on_grid = _spline_row(candidate, counts, linear, plain)
         curve = on_grid if len(rows) == 1 else curve
         rows.append(row)
     return ComparisonTable(tuple(rows), None), curve
 
 
-def _linear_design(candidate: Candidate, counts: ReducedCounts) -> np.ndarray | None:
-    """Intercept and x, as ``design_matrix`` gives them for linear (None: let it)."""
-    x = counts.x
-    if not isinstance(candidate, LinearCandidate) or counts.covariates is not None or x.ndim != 1:
-        return None
-    if not np.isfinite(x).all():
-        return None
-    return np.column_stack([np.ones(x.size), x])
+def _is_linear(candidate: Candidate) -> bool:
+    """The plain linear candidate, whose ``design_matrix`` is the intercept and x."""
+    return isinstance(candidate, LinearCandidate)
 
 
 def _spline_row(
-    candidate: Candidate, counts: ReducedCounts, linear: FormFit
+    candidate: Candidate, counts: ReducedCounts, linear: FormFit, plain: bool
 ) -> tuple[FormFit, CurveGrid | None]:
+    """``plain``: the counts' x is 1-D and finite, with no covariates beside it."""
     probs = KNOT_PERCENTILES.get(getattr(candidate, "knots", 0))
     x = counts.x
-    plain = counts.covariates is None and x.ndim == 1 and bool(np.isfinite(x).all())
     if not isinstance(candidate, SplineCandidate) or probs is None or not plain:
         return fit_candidate(candidate, counts, linear), None
     quantiles = counts.quantile([*probs, *SHAPE_ENDS])

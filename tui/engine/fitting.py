@@ -295,7 +295,7 @@ def _fit_logistic(
     coef_scaled = np.zeros(p)
     coef_scaled[keep] = unwhiten @ beta
     coef = coef_scaled / scale
-    coef[0] = coef_scaled[0] - float(np.sum(coef[1:] * centre[1:]))
+    coef[0] = coef_scaled[0] - float((coef[1:] * centre[1:]).sum())
     return LogisticFit(
         coef=coef,
         llf=ll,

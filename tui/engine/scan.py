@@ -181,7 +181,8 @@ def scan_counts(
     those of the full scan, except that a step shows as a threshold only once the forms
     are fitted; best form and ΔAIC are left out.
     """
-    n = int(round(counts.rows)) if present is None else present
+    total_rows, total_events = counts.rows, counts.total_events  # each a sum: taken once
+    n = int(round(total_rows)) if present is None else present
     # Profile figures of the column itself: a binned column holds fewer x positions than
     # it has values, and its first and last bin means lie inside its range.
     distinct = counts.distinct_values
@@ -194,7 +195,7 @@ def scan_counts(
         "rows": rows,
         "n": n,
         "missing": rows - n,
-        "events": int(round(counts.total_events)),
+        "events": int(round(total_events)),
         "distinct": distinct,
         "minimum": minimum,
         "maximum": maximum,
@@ -216,7 +217,7 @@ def scan_counts(
         flags.append(F.SEPARATION)
     elif any(r.status == "not-converged" for r in (linear, spline) if r is not None):
         flags.append(F.NOT_CONVERGED)
-    minority = min(counts.total_events, counts.rows - counts.total_events)
+    minority = min(total_events, total_rows - total_events)
     if minority < 10 * (settings.knots - 1):
         flags.append(F.LOW_EVENTS)
     best = table.best() if forms else None

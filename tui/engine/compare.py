@@ -152,12 +152,16 @@ def fit_candidate(
     counts: ReducedCounts,
     linear: FormFit | None = None,
     learned: Learned | None = None,
+    design: np.ndarray | None = None,
 ) -> FormFit:
     """Learn and fit one candidate; a failure is a status, never an exception.
-    ``learned``: what the candidate learns, when already learned (``learn_searches``)."""
+    ``learned``: what the candidate learns, when already learned (``learn_searches``);
+    ``design``: its ``design_matrix`` on the counts' x, when already built."""
     try:
         learned = candidate.learn(counts) if learned is None else learned
-        fit = learned.fit if learned.fit is not None else fit_on_counts(learned.recoding, counts)
+        fit = learned.fit
+        if fit is None:
+            fit = fit_on_counts(learned.recoding, counts, design)
     except (RecodingError, ValueError, np.linalg.LinAlgError) as problem:
         return _failed(candidate, str(problem))
     if fit.rank_deficient:
@@ -180,18 +184,20 @@ def form_row(
     the LR test against ``linear`` (the row-level adjusted scan builds its rows here too)."""
     status = "separation" if fit.separated else ("ok" if fit.converged else "not-converged")
     notes = learned.notes
-    minority = min(counts.total_events, counts.rows - counts.total_events)
-    if minority < EVENTS_PER_PARAMETER * learned.df:
+    df = learned.df
+    events = counts.total_events
+    minority = min(events, counts.rows - events)
+    if minority < EVENTS_PER_PARAMETER * df:
         notes.append(NOTE_FEW_EVENTS)
     # Covariates are estimated in every form alike: they count in AIC/BIC, not in the LR df.
-    aic = fit.aic(learned.df + covariate_df)
-    bic = fit.bic(learned.df + covariate_df)
+    aic = fit.aic(df + covariate_df)
+    bic = fit.bic(df + covariate_df)
     lr_chi2 = lr_df = lr_p = None
     delta = float("nan")
     if linear is not None and linear.fit is not None:
         delta = aic - linear.aic
-        if learned.nests_linear and learned.df > linear.df:
-            lr_df = learned.df - linear.df
+        if df > linear.df and learned.nests_linear:
+            lr_df = df - linear.df
             lr_chi2, lr_p = lr_test(linear.fit, fit, lr_df)
     elif candidate.kind == "linear":
         delta = 0.0
@@ -200,7 +206,7 @@ def form_row(
         label=candidate.label,
         form=candidate.form,
         recoding=learned.recoding,
-        df=learned.df,
+        df=df,
         status=status,
         deviance=fit.deviance,
         aic=aic,

@@ -116,16 +116,20 @@ def _loglik(eta: np.ndarray, events: np.ndarray, trials: np.ndarray) -> tuple[fl
     which the next Newton step's ``expit`` of the same eta needs again."""
     # ln(1 + e^eta) as max(eta, 0) + ln(1 + e^-|eta|), the steps numpy's logaddexp takes,
     # on vectorised exp and log1p: a third of logaddexp's time, equal to rounding.
-    low = np.exp(-np.abs(eta))
-    softplus = np.maximum(eta, 0.0) + np.log1p(low)
+    low = np.abs(eta)
+    np.exp(np.negative(low, out=low), out=low)  # in place: one array instead of three
+    softplus = np.maximum(eta, 0.0)
+    softplus += np.log1p(low)
     return float(events @ eta - trials @ softplus), low
 
 
-def _column_scaling(design: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _column_scaling(
+    design: np.ndarray, trials: np.ndarray, wsum: float | None = None
+) -> tuple[np.ndarray, np.ndarray]:
     """Centre (weighted mean) and scale (weighted sd) of each non-intercept column,
-    all columns at once."""
+    all columns at once (``wsum``: the trials' sum, when known)."""
     m, p = design.shape
-    wsum = float(trials.sum())
+    wsum = float(trials.sum()) if wsum is None else wsum
     if p == 1 or m == 0 or wsum <= 0:
         return np.zeros(p), np.ones(p)
     # One contiguous row per column: reductions along a row are several times faster than
@@ -136,15 +140,25 @@ def _column_scaling(design: np.ndarray, trials: np.ndarray) -> tuple[np.ndarray,
     if not big.all():  # an all-zero column keeps centre 0 and scale 1
         centre, scale = np.zeros(p), np.ones(p)
         used = np.flatnonzero(big) + 1
-        inner_centre, inner_scale = _column_scaling(design[:, np.r_[0, used]], trials)
+        inner_centre, inner_scale = _column_scaling(design[:, np.r_[0, used]], trials, wsum)
         centre[used], scale[used] = inner_centre[1:], inner_scale[1:]
         return centre, scale
     col = cols / big[:, None]
     c = (col @ trials) / wsum
     s = np.sqrt((np.square(col - c[:, None]) @ trials) / wsum)
-    centre = np.concatenate(([0.0], c * big))
-    scale = np.concatenate(([1.0], np.where(s > 0, s * big, big)))
+    centre, scale = np.zeros(p), np.ones(p)
+    centre[1:] = c * big
+    scale[1:] = np.where(s > 0, s * big, big)
     return centre, scale
+
+
+def _largest_magnitude(v: np.ndarray) -> float:
+    """float(np.abs(v).max()) for a few coefficients, read as Python floats."""
+    values = v.tolist()
+    total = sum(values)
+    if total != total:  # a NaN (or opposite infinities): numpy's rule for NaN
+        return float(np.abs(v).max())
+    return max(map(abs, values))
 
 
 def fit_logistic(
@@ -153,13 +167,30 @@ def fit_logistic(
     trials: np.ndarray,
     start: np.ndarray | None = None,
     tol: float = 1e-10,
+    *,
+    finite: bool = False,
 ) -> LogisticFit:
     """Fit log-odds = design @ coef by maximum likelihood.
 
     ``design`` holds the intercept column; ``events`` and ``trials`` are per design row
     (trials may be weights). Columns are centred and scaled inside the solver so that
-    magnitudes such as 1e200 or x**3 do not spoil the Newton steps.
+    magnitudes such as 1e200 or x**3 do not spoil the Newton steps. ``finite``: the
+    caller has checked that the design is finite throughout.
     """
+    # Floating-point errors are ignored once for the whole fit rather than in each of its
+    # small solves: a failed solve shows as None (non-finite result) either way.
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+        return _fit_logistic(design, events, trials, start, tol, finite)
+
+
+def _fit_logistic(
+    design: np.ndarray,
+    events: np.ndarray,
+    trials: np.ndarray,
+    start: np.ndarray | None,
+    tol: float,
+    finite: bool,
+) -> LogisticFit:
     # A scan makes thousands of these fits on a few hundred rows each, where the count of
     # numpy calls, not arithmetic, sets the time: hence the terse, call-sparing steps.
     design = np.asarray(design, dtype=float)
@@ -169,10 +200,10 @@ def fit_logistic(
     nobs = float(trials.sum())
     if m == 0:
         raise ValueError("no rows to fit")
-    if not np.isfinite(design).all():
+    if not finite and not np.isfinite(design).all():
         raise ValueError("design holds non-finite values")
 
-    centre, scale = _column_scaling(design, trials)
+    centre, scale = _column_scaling(design, trials, nobs)
     z = (design - centre) / scale
     z[:, 0] = 1.0
     if not np.isfinite(z).all():
@@ -181,7 +212,7 @@ def fit_logistic(
     # Drop linearly dependent columns (they get coefficient 0) and say so. Only R of the
     # QR factorisation is needed (LAPACK's dgeqrf).
     root_w = np.sqrt(np.maximum(trials, 0))[:, None]
-    packed = dense.qr_r(z * root_w)
+    packed = dense.qr_r(z * root_w, overwrite=True)
     diag = np.abs(np.diagonal(packed))
     keep = np.zeros(p, dtype=bool)  # beyond the rows' count a column cannot be independent
     keep[: diag.size] = diag > 1e-9 * max(1.0, float(diag.max(initial=0.0)))
@@ -189,13 +220,13 @@ def fit_logistic(
     rank_deficient = not bool(keep.all())
     zk = z[:, keep] if rank_deficient else z
     if rank_deficient:
-        packed = dense.qr_r(zk * root_w)
+        packed = dense.qr_r(zk * root_w, overwrite=True)
     # Newton runs on whitened columns zk R^-1 (weighted orthonormal, times sqrt(rows)):
     # centring and scaling alone leave two powers of a column with one extreme value
     # (z^-2 and z^-1 of a tiny shifted x) nearly collinear, and Newton then stalls.
     kept = zk.shape[1]
-    whiten = np.triu(packed[:kept, :kept]) / np.sqrt(max(nobs, 1e-300))
-    unwhiten = dense.inverse(whiten)
+    whiten = packed[:kept, :kept] / np.sqrt(max(nobs, 1e-300))  # R is upper triangular
+    unwhiten = dense.inverse_quiet(whiten)
     if unwhiten is None:  # kept columns have pivots above 1e-9 of the largest: not seen
         raise np.linalg.LinAlgError("design too nearly collinear to whiten")
     zk = zk @ unwhiten
@@ -225,7 +256,7 @@ def fit_logistic(
         fitted = trials * mu
         grad = zt @ (events - fitted)
         hess = (zt * (fitted * (1.0 - mu))) @ zk
-        step = dense.solve(hess, grad)
+        step = dense.solve_quiet(hess, grad)
         if step is None:
             step = np.linalg.lstsq(hess, grad, rcond=None)[0]
         t = 1.0
@@ -239,13 +270,13 @@ def fit_logistic(
             t *= 0.5
         gain = new_ll - ll
         beta, eta, ll, low = new_beta, new_eta, new_ll, new_low
-        moved = t * float(np.abs(step).max())
+        moved = t * _largest_magnitude(step)
         if abs(gain) <= tol * (abs(ll) + 0.1):
             # Steps are judged against the coefficients' size: one extreme design value
             # (a long tail, a negative power of a tiny shifted x) leaves the other rows a
             # small spread in the scaled column, so a legitimate scaled coefficient can be
             # 1e5 and settle only to rounding in its tenth digit.
-            if moved < 1e-6 * max(1.0, float(np.abs(beta).max())):
+            if moved < 1e-6 * max(1.0, _largest_magnitude(beta)):
                 converged = True
                 break
             # Gains vanish while the steps do not: coefficients drifting to infinity.
@@ -256,19 +287,20 @@ def fit_logistic(
     # Separation: no maximum exists, so Newton never settles, and the fitted log-odds run off
     # at rows that are all events or all non-events. A long tail can give |log-odds| > 30 at
     # a converged fit; that is a legitimate fit, not separation.
-    pure = (events <= 0) | (events >= trials)
-    extreme = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
-    separated = extreme and not converged
+    separated = False
+    if not converged:
+        pure = (events <= 0) | (events >= trials)
+        separated = bool(np.any((np.abs(eta) > _SEPARATION_ETA) & pure & (trials > 0)))
 
     coef_scaled = np.zeros(p)
     coef_scaled[keep] = unwhiten @ beta
     coef = coef_scaled / scale
-    coef[0] = coef_scaled[0] - float(np.sum(coef[1:] * centre[1:]))
+    coef[0] = coef_scaled[0] - float((coef[1:] * centre[1:]).sum())
     return LogisticFit(
         coef=coef,
         llf=ll,
         nobs=nobs,
-        n_params=int(keep.sum()),
+        n_params=kept,
         converged=converged,
         separated=separated,
         rank_deficient=rank_deficient,

@@ -18,13 +18,14 @@ import numpy as np
 
 from tui.engine import flags as F
 from tui.engine.adjust import Adjustment
-from tui.engine.compare import ComparisonTable, compare_forms, fit_candidate
+from tui.engine.compare import ComparisonTable, compare_forms
 from tui.engine.counts import (
     DEFAULT_MAX_LEVELS,
     ReducedCounts,
     reduce_column,
     rows_with_covariates,
 )
+from tui.engine.first_fits import SHAPE_ENDS, CurveGrid, first_table, shape_grid
 from tui.engine.fittable import one_outcome_class, too_few_values
 from tui.engine.forms.registry import triage_candidates
 from tui.engine.forms.spline import DEFAULT_KNOTS, SPLINE
@@ -138,15 +139,24 @@ class ColumnScan:
         }
 
 
-def _shape_hint(table: ComparisonTable, counts: ReducedCounts, forms: bool = True) -> str:
+def _shape_hint(
+    table: ComparisonTable,
+    counts: ReducedCounts,
+    forms: bool = True,
+    curve: CurveGrid | None = None,
+) -> str:
     """The spline's shape; a step that a smooth spline blurs shows as a winning cut point
-    (known only once the forms are fitted)."""
+    (known only once the forms are fitted). ``curve``: the grid and the spline's outputs
+    on it, when formed already (``first_table``)."""
     spline = table.row(SPLINE.key)
     if spline is None or spline.fit is None:
         return LINEAR
-    lo, hi = counts.quantile([0.025, 0.975])
-    grid = np.linspace(lo, hi, 201)
-    shape = curve_shape(grid, spline.log_odds(grid))
+    if curve is not None and spline.recoding is not None:
+        shape = curve_shape(curve.grid, curve.log_odds(spline))
+    else:
+        lo, hi = counts.quantile(list(SHAPE_ENDS))
+        grid = shape_grid(lo, hi)
+        shape = curve_shape(grid, spline.log_odds(grid))
     best = table.best()
     if shape in TURNING or not forms or best is None or best.fit is None:
         return shape
@@ -171,59 +181,57 @@ def scan_counts(
     those of the full scan, except that a step shows as a threshold only once the forms
     are fitted; best form and ΔAIC are left out.
     """
-    n = int(round(counts.rows)) if present is None else present
+    total_rows, total_events = counts.rows, counts.total_events  # each a sum: taken once
+    n = int(round(total_rows)) if present is None else present
     # Profile figures of the column itself: a binned column holds fewer x positions than
     # it has values, and its first and last bin means lie inside its range.
     distinct = counts.distinct_values
     minimum = counts.minimum
     maximum = counts.maximum
     flags = F.profile_flags(rows, n, distinct, nonfinite, integer_valued, minimum)
-    base = ColumnScan(
-        column=column,
-        rows=rows,
-        n=n,
-        missing=rows - n,
-        events=int(round(counts.total_events)),
-        distinct=distinct,
-        flags=tuple(flags),
-        minimum=minimum,
-        maximum=maximum,
-        exact=counts.exact,
-    )
+    # Each result is built once from these (``replace`` costs as much as a fit's setup).
+    profile = {
+        "column": column,
+        "rows": rows,
+        "n": n,
+        "missing": rows - n,
+        "events": int(round(total_events)),
+        "distinct": distinct,
+        "minimum": minimum,
+        "maximum": maximum,
+        "exact": counts.exact,
+    }
     if too_few_values(counts) or one_outcome_class(counts):
-        return base, None
+        return ColumnScan(flags=tuple(flags), **profile), None  # type: ignore[arg-type]
     # Adjusted checks fit every row, so the triage leaves out the searched forms (FP2,
     # hinge, indicator); opening the column fits them all.
     candidates = triage_candidates(settings.groups, settings.knots, counts.covariates is None)
+    curve = None
     if forms:
         table = compare_forms(counts, candidates)
     else:
-        linear_row = fit_candidate(candidates[0], counts)
-        spline_rows = [
-            fit_candidate(c, counts, linear_row) for c in candidates if c.kind == SPLINE.key
-        ]
-        table = ComparisonTable((linear_row, *spline_rows), None)
+        table, curve = first_table(candidates, counts)
     linear = table.linear
     spline = table.row(SPLINE.key)
     if any(r.status == "separation" for r in (linear, spline) if r is not None):
         flags.append(F.SEPARATION)
     elif any(r.status == "not-converged" for r in (linear, spline) if r is not None):
         flags.append(F.NOT_CONVERGED)
-    minority = min(counts.total_events, counts.rows - counts.total_events)
+    minority = min(total_events, total_rows - total_events)
     if minority < 10 * (settings.knots - 1):
         flags.append(F.LOW_EVENTS)
     best = table.best() if forms else None
-    result = replace(
-        base,
-        flags=tuple(flags),
-        best_form=best.recoding.describe() if best and best.recoding else None,
-        delta_aic=(best.aic - linear.aic) if best and linear.status == "ok" else None,
-        forms_fitted=forms,
-    )
+    fitted = {
+        **profile,
+        "flags": tuple(flags),
+        "best_form": best.recoding.describe() if best and best.recoding else None,
+        "delta_aic": (best.aic - linear.aic) if best and linear.status == "ok" else None,
+        "forms_fitted": forms,
+    }
     if spline is not None and spline.status == "failed" and linear.status == "ok":
-        return _values_scored(result, counts, table), table
+        return _values_scored(ColumnScan(**fitted), counts, table), table  # type: ignore[arg-type]
     if spline is None or spline.status != "ok" or linear.status != "ok" or spline.lr_df is None:
-        return result, table
+        return ColumnScan(**fitted), table  # type: ignore[arg-type]
     score, p_value, statistic = spline.lr_chi2, spline.lr_p, LR
     if counts.survey:
         # Survey weights: the sandwich Wald of the non-linear terms (Binder 1983).
@@ -232,18 +240,16 @@ def scan_counts(
             statistic = LR_APPROXIMATE
         else:
             score, p_value, statistic = wald.chi2, wald.p_value, WALD_ROBUST
-    return (
-        replace(
-            result,
-            score=score,
-            df=spline.lr_df,
-            p_value=p_value,
-            score_test=SPLINE_TEST,
-            statistic=statistic,
-            shape=_shape_hint(table, counts, forms),
-        ),
-        table,
+    scored = ColumnScan(
+        **fitted,  # type: ignore[arg-type]
+        score=score,
+        df=spline.lr_df,
+        p_value=p_value,
+        score_test=SPLINE_TEST,
+        statistic=statistic,
+        shape=_shape_hint(table, counts, forms, curve),
     )
+    return scored, table
 
 
 def _values_scored(result: ColumnScan, counts: ReducedCounts, table: ComparisonTable) -> ColumnScan:

@@ -229,7 +229,10 @@ class Recoding:
         """Output columns (rows × outputs); a missing x gives missing outputs unless the
         recoding fills it."""
         x = np.asarray(x, dtype=float)
-        was_missing = ~np.isfinite(x)
+        finite = np.isfinite(x)
+        if self.missing is None and self.clip is None and x.ndim == 1 and finite.all():
+            return self._apply_finite(x)
+        was_missing = ~finite
         if self.missing is not None:
             x = np.where(was_missing, float(self.missing.fill), x)
         present = np.isfinite(x)
@@ -243,6 +246,25 @@ class Recoding:
         if self.missing is not None and self.missing.indicator:
             out = np.column_stack([out, was_missing.astype(float)])
         return out
+
+    def _apply_finite(self, x: np.ndarray) -> np.ndarray:
+        """``apply`` on a 1-D x that is finite throughout, neither filled nor clipped: the
+        kind's outputs as they come (no mask to copy them through), in a C-ordered array
+        of their own, as the masked copy gives."""
+        width = len(self.form.suffixes(self.params))
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            out = self.form.apply(self.params, x) if x.size else np.empty((0, width))
+        if (
+            isinstance(out, np.ndarray)
+            and out.dtype == np.float64
+            and out.shape == (x.size, width)
+            and out.flags.c_contiguous
+            and not np.may_share_memory(out, x)
+        ):
+            return out
+        full = np.empty((x.size, width))
+        full[...] = out
+        return full
 
     def suffixes(self) -> list[str]:
         """Suffixes of the output columns (the missing indicator last, when there is one)."""
@@ -379,11 +401,14 @@ def design_matrix(recoding: Recoding, x: np.ndarray) -> np.ndarray:
     return np.column_stack([np.ones(basis.shape[0]), basis])
 
 
-def fit_on_counts(recoding: Recoding, counts: ReducedCounts) -> LogisticFit:
-    """Fit intercept + the recoding's outputs to training counts."""
-    design = design_matrix(recoding, counts.x)
+def fit_on_counts(
+    recoding: Recoding, counts: ReducedCounts, design: np.ndarray | None = None
+) -> LogisticFit:
+    """Fit intercept + the recoding's outputs to training counts (``design``: that
+    ``design_matrix`` of the counts' x, when already built)."""
+    design = design_matrix(recoding, counts.x) if design is None else design
     if counts.covariates is not None:  # adjusted check: intercept, covariates, then the form
         design = np.column_stack([design[:, :1], counts.covariates, design[:, 1:]])
     if not np.all(np.isfinite(design)):
         raise RecodingError("the form gives non-finite values on the training data")
-    return fit_logistic(design, counts.events, counts.trials)
+    return fit_logistic(design, counts.events, counts.trials, finite=True)

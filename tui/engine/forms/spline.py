@@ -54,29 +54,50 @@ def spline_basis(x: np.ndarray, knots: list[float] | np.ndarray) -> np.ndarray:
     span = t[-1] - t[0]
     last, penult = t[-1], t[-2]
     beyond = x >= last
-    xin = np.where(beyond, last, x)  # inside pieces only see x up to the last knot
+    # Inside pieces only see x up to the last knot (rows beyond it take the tail, so their
+    # inside values are never read).
+    xin = np.minimum(x, last)
 
     def cube(c: float) -> np.ndarray:
-        u = np.maximum((xin - c) / span, 0.0)
-        return u * u * u  # two products: numpy's ** 3 calls pow, several times slower
+        u = np.subtract(xin, c)
+        np.maximum(np.divide(u, span, out=u), 0.0, out=u)
+        cubed = u * u  # two products: numpy's ** 3 calls pow, several times slower
+        return np.multiply(cubed, u, out=cubed)
 
-    cols = [x]
+    # Terms the columns share are formed once, and each step writes over its own
+    # temporary: the same numbers as the formula taken step by step per column.
+    top = cube(penult)
+    run = 3.0 * (x - last)
+    out = np.empty((x.size, k - 1))
+    out[:, 0] = x
     for j in range(k - 2):
-        inside = cube(t[j]) - cube(penult) * (last - t[j]) / (last - penult)
-        tail = (last - t[j]) / span * (penult - t[j]) / span
-        tail = tail * (2.0 * last - t[j] - penult + 3.0 * (x - last))
-        cols.append(np.where(beyond, tail, inside * span))
-    return np.column_stack(cols)
+        inside = cube(t[j])
+        share = top * (last - t[j])
+        inside -= np.divide(share, last - penult, out=share)
+        inside *= span
+        tail = np.add(2.0 * last - t[j] - penult, run)
+        tail *= (last - t[j]) / span * (penult - t[j]) / span
+        out[:, j + 1] = np.where(beyond, tail, inside)
+    return out
 
 
 def learn_knots(counts: ReducedCounts, k: int) -> list[float]:
     """Knots at the tabulated percentiles; fails when fewer than 3 distinct knots result."""
     if k not in KNOT_PERCENTILES:
         raise RecodingError(f"a spline takes 3 to 7 knots, not {k}")
-    knots = np.unique(counts.quantile(KNOT_PERCENTILES[k]))
-    if knots.size < 3:
+    return knots_at(counts.quantile(KNOT_PERCENTILES[k]), k)
+
+
+def knots_at(quantiles: np.ndarray, k: int) -> list[float]:
+    """The distinct knots among the quantiles at ``KNOT_PERCENTILES[k]``, ascending."""
+    values = quantiles.tolist()
+    if all(a < b for a, b in zip(values[:-1], values[1:], strict=True)):
+        knots = values  # already distinct and ascending: what np.unique would return
+    else:
+        knots = [float(v) for v in np.unique(quantiles)]
+    if len(knots) < 3:
         raise RecodingError(f"too few distinct values for a {k}-knot spline")
-    return [float(v) for v in knots]
+    return knots
 
 
 def tied_knots_note(got: int, asked: int) -> str:
@@ -151,6 +172,14 @@ class SplineCandidate(Candidate):
         return f"{SPLINE.label}, {self.knots} knots"
 
     def learn(self, counts: ReducedCounts) -> Learned:
-        knots = learn_knots(counts, self.knots)
+        return self.learn_at(None, counts)
+
+    def learn_at(self, quantiles: np.ndarray | None, counts: ReducedCounts) -> Learned:
+        """``learn``, from the counts' quantiles at ``KNOT_PERCENTILES[self.knots]`` when
+        they are already taken (None: taken here)."""
+        if quantiles is None:
+            knots = learn_knots(counts, self.knots)
+        else:
+            knots = knots_at(quantiles, self.knots)
         remarks = () if len(knots) == self.knots else (tied_knots_note(len(knots), self.knots),)
         return Learned(Recoding(SPLINE, {"knots": knots}), remarks=remarks)

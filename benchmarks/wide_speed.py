@@ -10,9 +10,12 @@ written as Parquet, this prints:
 1. the hand loop: two statsmodels GLM fits per column (linear and a 4-knot restricted cubic
    spline), in a process of its own; with ``--hand-subset K`` only K columns are timed and
    the time is scaled to every column (said so in the printout);
-2. ``bendwise scan`` end to end (both passes): wall time and peak memory of the process tree;
+2. ``bendwise scan`` end to end (both passes): wall time, and in a second run the peak
+   memory of the process tree (the memory sampler's reads of /proc slow the processes it
+   measures, so the time comes from a run without it);
 3. the time to the end of the first pass (scores, q-values, flags, shape hints): a child
-   process doing what the command does, timed from its start to its last first-pass result;
+   process doing what the command does (``first_pass_child.py``, which imports no more than
+   the command), timed from its start to its last first-pass result;
 4. ratios against the hand loop, and the agreement of bendwise's scores with the hand loop's
    exact ones (largest relative and absolute difference, Spearman, top-10 set);
 5. best-form agreement: on ``--forms-subset`` columns, the full candidate table fitted
@@ -78,7 +81,6 @@ def _parse() -> argparse.Namespace:
     )
     parser.add_argument("--workdir", help="folder for the Parquet files (default: a temp one)")
     parser.add_argument("--results", type=Path, default=results_path("wide_speed"))
-    parser.add_argument("--first-pass-child", nargs=2, help=argparse.SUPPRESS)
     return parser.parse_args()
 
 
@@ -99,22 +101,6 @@ def _hand_loop(path: str, columns: list[str]) -> tuple[float, dict[str, float | 
         for name in columns:
             scores[name] = naive_score(frame[name].to_numpy(dtype=float), y)
     return time.perf_counter() - start, scores
-
-
-def _first_pass_child(path: str, report: str) -> None:
-    """What ``bendwise scan`` does up to the end of its first pass; writes the wall-clock
-    time of that moment."""
-    from tui.engine.two_pass import TwoPassScan
-    from tui.intake.dataset import open_dataset
-
-    data = open_dataset(path, OUTCOME, None, [])
-    values = (data.columns, data.raw_values, data.outcome.y)
-    scan = iter(TwoPassScan(*values, many_of=data.raw_values_many))
-    for step in scan:
-        if step.stage == "score" and step.done == step.total:
-            Path(report).write_text(repr(time.time()))
-            break
-    scan.close()  # type: ignore[attr-defined]
 
 
 def _exact_forms(path: str, columns: list[str]) -> dict[str, tuple[str, float]]:
@@ -172,15 +158,23 @@ def _shape(rows: int, cols: int, folder: Path, args: argparse.Namespace) -> None
     command = [sys.executable, "-m", "tui", "scan", str(path), "--outcome", OUTCOME]
     command += ["--format", "csv", "--output", str(out)]
     env = dict(os.environ, PYTHONPATH=str(REPO))
-    measured = run_measured(command, env=env)
+    # Timed without the memory sampler (it slows the processes it reads), then run again
+    # with it for the peak memory.
+    measured = run_measured(command, env=env, sample=False)
     print(f"2. bendwise scan end to end, both passes (exit {measured.returncode}):")
     print(f"   wall {measured.seconds:.2f} s; load average now {_load()}")
-    pss = f"{measured.peak_pss_mb:.0f}" if measured.peak_pss_mb is not None else "n/a"
-    print(f"   peak memory: largest process {measured.max_rss_mb:.0f} MiB, tree {pss} MiB")
+    again = [*command[:-1], str(out.with_suffix(".memory.csv"))]
+    sampled = run_measured(again, env=env)
+    pss = f"{sampled.peak_pss_mb:.0f}" if sampled.peak_pss_mb is not None else "n/a"
+    print(
+        f"   peak memory (a second run, sampled every 20 ms; wall {sampled.seconds:.2f} s): "
+        f"largest process {sampled.max_rss_mb:.0f} MiB, tree {pss} MiB"
+    )
 
     report = folder / "first_pass_end"
     started = time.time()
-    child = [sys.executable, str(Path(__file__)), "--first-pass-child", str(path), str(report)]
+    child = [sys.executable, str(Path(__file__).with_name("first_pass_child.py"))]
+    child += [str(path), OUTCOME, str(report)]
     subprocess.run(child, env=env, check=True)
     first = float(report.read_text()) - started
     print(f"3. time to the end of the first pass: {first:.2f} s")
@@ -227,9 +221,6 @@ def _shape(rows: int, cols: int, folder: Path, args: argparse.Namespace) -> None
 
 def main() -> None:
     args = _parse()
-    if args.first_pass_child:
-        _first_pass_child(*args.first_pass_child)
-        return
     with recorded("wide_speed", args.results):
         print(f"wide-data benchmark; {os.cpu_count()} cores; shapes {args.shapes}")
         with tempfile.TemporaryDirectory(dir=args.workdir) as folder:

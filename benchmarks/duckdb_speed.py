@@ -139,7 +139,18 @@ def per_query(path: Path) -> None:
         print(f"  {time.perf_counter() - began:6.2f} s  {what}...; {_load()}")
         return answer
 
+    arrays = source._reduction.arrays
+
+    def timed_arrays(sql: str):
+        began = time.perf_counter()
+        answer = arrays(sql)  # type: ignore[misc]
+        what = " ".join(sql.split())[-70:]
+        print(f"  {time.perf_counter() - began:6.2f} s  ...{what}; {_load()}")
+        return answer
+
     source._reduction.run = timed
+    if arrays is not None:
+        source._reduction.arrays = timed_arrays
     try:
         outcome = source.code_outcome(OUTCOME, None)
         names = [c.name for c in source.columns() if c.name != OUTCOME]

@@ -146,6 +146,7 @@ def _shape(rows: int, cols: int, folder: Path, args: argparse.Namespace) -> None
     frame.to_parquet(path)
     names = [c for c in frame.columns if c != OUTCOME]
     del frame
+    os.sync()  # the file's pages go to disk now, not during the timed runs
 
     subset = names[: args.hand_subset] if args.hand_subset else names
     hand, exact = _in_process(_hand_loop, str(path), subset)

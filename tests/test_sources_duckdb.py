@@ -137,3 +137,25 @@ def test_csv_column_led_by_infinities_is_scanned_like_the_file(tmp_path, capsys)
     assert row["score"] is not None and row["n"] == n - 40
     assert "non-finite" in row["flags"]
     assert path.read_bytes() == before  # the input is never modified
+
+
+def test_duckdb_draws_no_progress_bar_of_its_own(capfd, monkeypatch):
+    # DuckDB's own bar (drawn for statements over two seconds, as on 10,000,000 rows) would
+    # cut across the scan's progress lines and the review's screen. Here every connection
+    # is first set to draw it at once, on a statement long enough to show it.
+    connect = duckdb.connect
+
+    def eager(*args, **kwargs):
+        con = connect(*args, **kwargs)
+        con.execute("SET progress_bar_time = 0")
+        return con
+
+    monkeypatch.setattr(duckdb, "connect", eager)
+    source = open_file_through_duckdb(str(COHORT))
+    capfd.readouterr()  # the set-up's own statements, before the bar is switched off
+    try:
+        source._run("SELECT count(*) FROM range(50000000) AS t(i) WHERE i % 7 = 1")
+    finally:
+        source.close()
+    drawn = capfd.readouterr()
+    assert "%" not in drawn.out + drawn.err

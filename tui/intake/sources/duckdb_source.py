@@ -110,6 +110,9 @@ class DuckDBSource(ReducedInEngine):
 
     def _set_up(self, relation: str, staged: str | None) -> str:
         """Settings for this connection; a CSV file copied into the staging table."""
+        # DuckDB draws its own progress bar on the terminal for long statements, across
+        # bendwise's progress lines and the review's screen.
+        self._run("SET enable_progress_bar = false")
         temp = self.dialect.text(str(Path(self._folder.name) / "spill"))
         self._run(f"SET temp_directory = {temp}")
         self._run(f"SET memory_limit = {self.dialect.text(MEMORY_LIMIT)}")

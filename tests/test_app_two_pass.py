@@ -211,7 +211,7 @@ def test_a_binned_column_says_so_and_shows_its_exact_score(tmp_path: Path, monke
             line = app.screen.query_one(ExactnessLine)
             await until(pilot, lambda: "exact on every value" in str(line.render()))
             words = str(line.render())
-            assert line.display and "bins of 12000 values" in words
+            assert line.display and "bins · 12,000 distinct values" in words
             exact = float(words.split("exact on every value: score ")[1].split(" ")[0])
             reference = _statsmodels_score(x, y)
             assert exact == pytest.approx(reference, rel=1e-3)  # shown to 3-4 figures

@@ -31,8 +31,8 @@ def binned_words(fits: ColumnFits) -> str:
     counts = fits.counts
     about = "about " if counts.values_estimated else ""
     return (
-        f"≈ plot, forms and list score on {counts.distinct} bins"
-        f" of {about}{counts.distinct_values} values"
+        f"≈ plot, forms and list score on {counts.distinct:,} bins"
+        f" · {about}{counts.distinct_values:,} distinct values"
     )
 
 

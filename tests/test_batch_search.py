@@ -65,13 +65,18 @@ def test_stacked_search_chooses_as_one_at_a_time(rng, monkeypatch, exact_below):
                 assert stacked.deviance == pytest.approx(single.deviance, rel=0, abs=1e-8)
 
 
-def test_stack_log_likelihoods_equal_single_fits_and_statsmodels(rng):
-    x, y = _columns(rng)[1]
-    counts = reduce_column(x, y, exact_below=10**9)  # exact, so rows and counts agree
-    recodings = [
+def _fp2_members() -> list[Recoding]:
+    """Every FP2 power pair on unshifted x."""
+    return [
         Recoding(FP2, {"powers": [p1, p2], "shift": 0.0})
         for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
     ]
+
+
+def test_stack_log_likelihoods_equal_single_fits_and_statsmodels(rng):
+    x, y = _columns(rng)[1]
+    counts = reduce_column(x, y, exact_below=10**9)  # exact, so rows and counts agree
+    recodings = _fp2_members()
     designs = np.stack([design_matrix(r, counts.x) for r in recodings])
     stack = fit_stack(designs, counts.events, counts.trials)
     assert stack.settled.sum() >= 30
@@ -143,10 +148,7 @@ def test_the_search_fit_is_the_fit_of_the_chosen_member(rng):
 def test_refined_stack_fits_equal_single_fits_and_statsmodels(rng):
     x, y = _columns(rng)[1]
     counts = reduce_column(x, y, exact_below=10**9)  # exact, so rows and counts agree
-    recodings = [
-        Recoding(FP2, {"powers": [p1, p2], "shift": 0.0})
-        for p1, p2 in itertools.combinations_with_replacement(POWERS, 2)
-    ]
+    recodings = _fp2_members()
     designs = np.stack([design_matrix(r, counts.x) for r in recodings])
     stack = fit_stack(designs, counts.events, counts.trials, refine_within=np.inf)
     assert stack.refined.sum() >= 30

@@ -23,7 +23,7 @@ value needs only bincounts: rows, events and the sum of x in each cell. Cells ar
   is shifted by its exact smallest gap between values, which only the sort gives (the gap
   kept here is the smallest step among the values read, which no shift uses).
 
-Where the lattice is too coarse (a cell wider than 1/``SPREAD_CELLS`` of the distance
+Where the lattice is too coarse (a cell wider than 1/``lattice_bins.SPREAD_CELLS`` of the distance
 between the 5th and 95th percentiles, as in very long tails, or crowded cells holding more
 values than there are bins), or the column has so few occupied cells that it may need exact
 counts per value, ``lattice_counts`` returns None and the caller sorts.
@@ -38,9 +38,9 @@ import numpy as np
 
 from tui import lattice_bins as LB
 from tui.engine.heap import reuse_freed_memory
-from tui.lattice_bins import CELLS, SPREAD_CELLS
+from tui.lattice_bins import CELLS
 
-__all__ = ["CELLS", "LATTICE_ROWS", "SPREAD_CELLS", "LatticeCounts", "lattice_counts"]
+__all__ = ["CELLS", "LATTICE_ROWS", "LatticeCounts", "lattice_counts"]
 
 LATTICE_ROWS = 200_000
 """From this many rows the lattice replaces the sort (below it, sorting costs a few ms)."""

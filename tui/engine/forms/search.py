@@ -156,8 +156,9 @@ def _keys_from_stack(
             keys[i] = (True, ll)  # far below the best: its exact value cannot matter
         else:
             alone.append(i)
+    single = _single_keys(recodings, counts, alone, fits)
     for i in alone:
-        keys[i] = _single_keys(recodings, counts, [i], fits)[i]
+        keys[i] = single[i]
     return keys
 
 

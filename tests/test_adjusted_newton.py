@@ -58,6 +58,31 @@ def test_chord_likelihood_is_the_likelihood_at_its_coefficients(rng):
     np.testing.assert_allclose(fit.coef, ref.params, rtol=1e-5, atol=1e-7)
 
 
+@pytest.mark.parametrize("missing_share", [0.0, 0.05])
+def test_fits_taken_together_equal_the_fits_one_at_a_time(rng, missing_share):
+    # fit_many steps several one-column forms at once; each must end where fit ends on
+    # its own. The set holds forms the chord settles, a form handed on to full Newton
+    # steps or the general solver (a huge-scale power), and a constant form (rank lost);
+    # the settled ones are also checked against statsmodels (GLM Binomial).
+    z, x, y = _rows(rng, 8000, missing_share, bend=0.2)
+    rows = ColumnRows.of(covariate_block(z, y), x)
+    xr = rows.x
+    up = xr - xr.min() + 1.0
+    bases = [xr, np.log(up), np.sqrt(up), up**3, np.full(xr.size, 2.0), (xr > 2.0).astype(float)]
+    together = rows.fit_many(bases)
+    for basis, (fit, standard) in zip(bases, together, strict=True):
+        alone, alone_standard = rows.fit(basis[:, None])
+        assert fit.rank_deficient == alone.rank_deficient
+        assert fit.converged == alone.converged
+        assert fit.llf == pytest.approx(alone.llf, rel=1e-12, abs=1e-9)
+        np.testing.assert_allclose(fit.coef, alone.coef, rtol=1e-9, atol=1e-10)
+        assert (standard is None) == (alone_standard is None)
+        if not fit.rank_deficient:
+            design = np.column_stack([np.ones(xr.size), rows.covariates, basis])
+            ref = sm.GLM(rows.events, design, family=sm.families.Binomial()).fit(tol=1e-12)
+            assert fit.llf == pytest.approx(ref.llf, abs=1e-7)
+
+
 def test_scan_command_starts_without_the_plotting_library():
     # matplotlib takes about a second to import; only a report draws with it.
     code = "import sys, tui.cli.main; print('matplotlib' in sys.modules)"

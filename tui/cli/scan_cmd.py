@@ -6,7 +6,6 @@ import argparse
 import shutil
 import sys
 
-from tui import recodings
 from tui.cli.common import add_adjust_options, add_data_options, add_fit_options
 from tui.cli.progress import Progress
 from tui.cli.scan_output import ELIDE_HELP, as_csv, as_json, as_table
@@ -114,7 +113,11 @@ def run(args: argparse.Namespace) -> int:
     if data is None:
         data = open_dataset(args.data, args.outcome, args.event, args.exclude)
     require_numeric(data, args.weight)
-    forms = {d.column: d.recoding for d in recodings.load(args.log).decisions} if args.log else {}
+    forms = {}
+    if args.log:
+        from tui import recodings  # pandas comes with it: only a scan with a log pays
+
+        forms = {d.column: d.recoding for d in recodings.load(args.log).decisions}
     adjust = open_adjustment(data, args.outcome, args.adjust, args.weight, args.weight_kind, forms)
     settings = ScanSettings(groups=args.groups, knots=args.knots)
     columns = [c for c in data.columns if c != args.weight]  # weights are not a predictor

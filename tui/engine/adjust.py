@@ -119,8 +119,11 @@ def open_adjustment(
     design = None
     if adjust:
         # Numeric by the values themselves: an excluded column is still a usable covariate.
-        series = {n: data.series(n) for n in adjust}
-        numeric = {n: numeric_values(v) for n, v in series.items() if is_numeric_column(v)}
+        # Numbers stored in Parquet come without pandas (a quarter second saved).
+        stored = getattr(data, "stored_floats", None)
+        numeric = {n: v for n in adjust if stored and (v := stored(n)) is not None}
+        series = {n: data.series(n) for n in adjust if n not in numeric}
+        numeric |= {n: numeric_values(v) for n, v in series.items() if is_numeric_column(v)}
         text = {n: v.to_numpy(dtype=object) for n, v in series.items() if n not in numeric}
         try:
             design = build_covariates(list(adjust), numeric, text, forms or {})

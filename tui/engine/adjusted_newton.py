@@ -200,15 +200,8 @@ def chord(
     """
     top, low = parts
     c = top.shape[0]
-    chol = dense.cholesky_lower(hessian)
     beta = np.array(start, dtype=float)
-    if chol is None:
-        return beta, None
-    pivots = np.abs(np.diagonal(chol))
-    if pivots.min() < _RANK_DOUBT * pivots.max():
-        return beta, None
-    # The Hessian is kept for every step: its inverse once, then a product per step.
-    kept = dense.inverse(hessian)
+    kept = _kept_inverse(hessian)
     if kept is None:
         return beta, None
     eta = np.array(beta[:c] @ top + beta[c:] @ low if eta is None else eta, dtype=float)
@@ -217,12 +210,7 @@ def chord(
     expected = 1.0 if trials is None else trials
     previous = np.inf
     for _ in range(_CHORD_STEPS):
-        np.negative(eta, out=down)
-        with np.errstate(over="ignore"):
-            np.exp(down, out=down)
-        np.add(down, 1.0, out=resid)
-        np.divide(expected, resid, out=resid)  # expected events
-        np.subtract(events, resid, out=resid)
+        _residuals(eta, events, expected, down, resid)
         grad = np.concatenate([top @ resid, low @ resid])
         step = kept @ grad
         moved = float(np.abs(step).max())
@@ -243,6 +231,102 @@ def chord(
         eta += down
         previous = moved
     return beta, None
+
+
+def _residuals(
+    eta: np.ndarray,
+    events: np.ndarray,
+    expected: float | np.ndarray,
+    down: np.ndarray,
+    resid: np.ndarray,
+) -> None:
+    """exp(-eta) into ``down`` and events minus expected events into ``resid``, in place
+    (kept buffers: no row-sized temporary per step)."""
+    np.negative(eta, out=down)
+    with np.errstate(over="ignore"):
+        np.exp(down, out=down)
+    np.add(down, 1.0, out=resid)
+    np.divide(expected, resid, out=resid)  # expected events
+    np.subtract(events, resid, out=resid)
+
+
+def _kept_inverse(hessian: np.ndarray) -> np.ndarray | None:
+    """The inverse a chord keeps for every step; None when the design is in doubt (no
+    Cholesky factor, or pivots small enough to hand the rank question on)."""
+    chol = dense.cholesky_lower(hessian)
+    if chol is None:
+        return None
+    pivots = np.abs(np.diagonal(chol))
+    if pivots.min() < _RANK_DOUBT * pivots.max():
+        return None
+    return dense.inverse(hessian)
+
+
+def chord_many(
+    top: np.ndarray,
+    lows: np.ndarray,
+    hessians: list[np.ndarray],
+    events: np.ndarray,
+    trials: np.ndarray | None,
+    starts: np.ndarray,
+    etas: np.ndarray,
+) -> list[tuple[np.ndarray, float | None]]:
+    """``chord`` for several one-column forms of one column at once (``lows``: one
+    standardised form row each; ``starts`` and ``etas``: one row each).
+
+    Each form takes exactly the steps ``chord`` would take, and stops where it would;
+    but a step of all of them reads the covariate rows once (one matrix product for the
+    gradients, one for the log-odds) instead of once per form: those rows are most of
+    what a step moves through memory, which is what the steps wait on.
+    """
+    k, c = lows.shape[0], top.shape[0]
+    results: list[tuple[np.ndarray, float | None]] = [
+        (np.array(start, dtype=float), None) for start in starts
+    ]
+    kept = [_kept_inverse(h) for h in hessians]
+    live = np.array([j for j in range(k) if kept[j] is not None], dtype=int)
+    if not live.size:
+        return results
+    inverse = np.array([kept[j] for j in live])
+    beta = np.array(starts, dtype=float)[live]
+    low, eta = lows[live], np.array(etas[live], dtype=float)
+    down, resid = np.empty_like(eta), np.empty_like(eta)
+    expected = 1.0 if trials is None else trials
+    previous = np.full(live.size, np.inf)
+    for _ in range(_CHORD_STEPS):
+        _residuals(eta, events, expected, down, resid)
+        grad = np.empty((live.size, c + 1))
+        grad[:, :c] = resid @ top.T
+        grad[:, c] = np.einsum("ij,ij->i", low, resid)
+        step = np.einsum("ijk,ik->ij", inverse, grad)
+        moved = np.abs(step).max(axis=1)
+        gain = 0.5 * np.einsum("ij,ij->i", grad, step)
+        going = np.ones(live.size, dtype=bool)
+        for i, j in enumerate(live):
+            if not moved[i] < _WILD_STEP or moved[i] > _CHORD_RATE * previous[i]:
+                results[j], going[i] = (beta[i].copy(), None), False
+            elif gain[i] < _GAIN_DONE:
+                going[i] = False
+                if float(np.abs(eta[i]).max(initial=0.0)) > _SEPARATION_ETA:
+                    results[j] = (beta[i].copy(), None)
+                else:
+                    ll = _loglik_down(eta[i], down[i], events, trials) + float(gain[i])
+                    results[j] = (beta[i] + step[i], ll)
+        beta = beta + step
+        if not going.all():
+            live, beta, step, inverse = live[going], beta[going], step[going], inverse[going]
+            low, moved = low[going], moved[going]
+            if not live.size:
+                return results
+            eta, down = np.empty_like(low), np.empty_like(low)
+            resid = np.empty_like(low)
+        np.matmul(beta[:, :c], top, out=eta)
+        np.multiply(low, beta[:, c:], out=down)  # ``down`` is free until the next step
+        eta += down
+        previous = moved
+    for i, j in enumerate(live):
+        results[j] = (beta[i], None)
+    return results
 
 
 def _loglik_down(
@@ -354,6 +438,52 @@ class ColumnRows:
         trials = None if self.block.unit else self.trials
         hessian = self.base_hessian(basis_t)
         beta, ll = chord((self.standard, basis_t), hessian, self.events, trials, start, eta)
+        return self._finish(cols, basis_t, centre, scale, beta, ll)
+
+    def fit_many(self, bases: list[np.ndarray]) -> list[tuple[LogisticFit, np.ndarray | None]]:
+        """``fit`` of several one-column forms (each rows long), from the covariates-only
+        fit, their chord steps taken together (``chord_many``): the same fits."""
+        cols = np.vstack([np.asarray(b, dtype=float).reshape(1, self.x.size) for b in bases])
+        centre, scale = scaling(cols, self.trials)
+        low = (cols - centre[:, None]) / scale[:, None]
+        c = self.standard.shape[0]
+        rooted = low * self.base_root
+        info = np.einsum("ij,ij->i", rooted, rooted)
+        pull = low @ self.base_resid
+        first = np.divide(pull, info, out=np.zeros_like(pull), where=info > 0)
+        starts = np.zeros((len(bases), c + 1))
+        starts[:, :c] = self.block.beta
+        starts[:, c] = first  # as ``start``: one Newton step for the form column alone
+        etas = self.base_eta + first[:, None] * low
+        side = self.weighted @ rooted.T
+        hessians = []
+        for j in range(len(bases)):  # as ``base_hessian``
+            hessian = np.empty((c + 1, c + 1))
+            hessian[:c, :c] = self.covariate_cross
+            hessian[:c, c] = hessian[c, :c] = side[:, j]
+            hessian[c, c] = info[j]
+            hessians.append(hessian)
+        trials = None if self.block.unit else self.trials
+        steps = chord_many(self.standard, low, hessians, self.events, trials, starts, etas)
+        return [
+            self._finish(
+                cols[j : j + 1], low[j : j + 1], centre[j : j + 1], scale[j : j + 1], beta, ll
+            )  # fmt: skip
+            for j, (beta, ll) in enumerate(steps)
+        ]
+
+    def _finish(
+        self,
+        cols: np.ndarray,
+        basis_t: np.ndarray,
+        centre: np.ndarray,
+        scale: np.ndarray,
+        beta: np.ndarray,
+        ll: float | None,
+    ) -> tuple[LogisticFit, np.ndarray | None]:
+        """After the chord steps: the settled fit, else full Newton steps, else
+        ``fit_logistic`` (``cols``: the form's columns × rows, original scale)."""
+        trials = None if self.block.unit else self.trials
         found = None if ll is None else (beta, ll)
         if found is None:
             xt = np.vstack([self.standard, basis_t])

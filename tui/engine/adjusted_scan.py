@@ -253,7 +253,7 @@ class _Column:
         self.fits[(kind, recoding.params.get("shift"))] = fit
         return fit
 
-    def _fp1_fit(self, power: float, shift: float) -> LogisticFit:
+    def _fp1_reused(self, power: float, shift: float) -> LogisticFit | None:
         """FP1 with power 1 is the linear model and power 0 the log model (same shift):
         their fits serve, the intercept moved by the shift for power 1."""
         if power == 1.0 and ("linear", None) in self.fits:
@@ -263,8 +263,7 @@ class _Column:
             return replace(linear, coef=coef)
         if power == 0.0 and ("log", shift) in self.fits:
             return self.fits[("log", shift)]
-        recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
-        return self._fit("fp1", recoding)
+        return None
 
     def _learn_and_fit(self, candidate: Candidate) -> tuple[Learned, LogisticFit]:
         if isinstance(candidate, Fp1Candidate):
@@ -275,15 +274,30 @@ class _Column:
         return learned, self._fit(candidate.kind, learned.recoding)
 
     def _fp1_search(self) -> tuple[Learned, LogisticFit]:
-        """The power with the highest likelihood (first wins ties), as ``forms.search``."""
+        """The power with the highest likelihood (first wins ties), as ``forms.search``.
+        The powers not served by the linear and log fits are fitted together."""
         shift = learn_shift(self.counts)
+        fits: dict[float, LogisticFit] = {}
+        bases: dict[float, np.ndarray] = {}
+        for power in POWERS:
+            reused = self._fp1_reused(power, shift)
+            if reused is not None:
+                fits[power] = reused
+                continue
+            recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
+            basis = _basis(recoding, self.rows.x)
+            if np.all(np.isfinite(basis)):  # else the power is left out, as a failed fit
+                bases[power] = basis
+        if bases:
+            together = self.rows.fit_many(list(bases.values()))
+            for power, (fit, _) in zip(bases, together, strict=True):
+                fits[power] = fit
         best: tuple[bool, float, Recoding, LogisticFit] | None = None
         for power in POWERS:
-            recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
-            try:
-                fit = self._fp1_fit(power, shift)
-            except RecodingError:
+            if power not in fits:
                 continue
+            fit = fits[power]
+            recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
             key = (fit.ok, fit.llf)
             if best is None or key[0] > best[0] or (key[0] == best[0] and key[1] > best[1] + 1e-9):
                 best = (fit.ok, fit.llf, recoding, fit)

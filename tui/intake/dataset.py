@@ -180,9 +180,15 @@ class ColumnarDataset:
 
     def values(self, column: str) -> np.ndarray:
         """Float values of one column for the kept rows (NaN for missing or ±inf)."""
+        floats = self.stored_floats(column)
+        return numeric_values(self._kept(column)) if floats is None else floats
+
+    def stored_floats(self, column: str) -> np.ndarray | None:
+        """``values`` of a column stored as numbers in Parquet, read without pandas; None
+        for any other column (the caller then reads it with ``series``)."""
         floats = read_floats(self.path, column)
         if floats is None:
-            return numeric_values(self._kept(column))
+            return None
         floats = floats[self.outcome.keep]  # a copy: the caller may change it
         floats[np.isinf(floats)] = np.nan
         return floats

@@ -103,12 +103,16 @@ class Keys:
         char = key if len(key) == 1 else None
         pilot.app._driver.send_message(events.Key(key, char))  # noqa: SLF001
         end = start + 120.0
+        # The effect came after the last look that did not see it: the frame showing it
+        # is the first one after that look. (Taking the first look that sees it instead
+        # misses a frame drawn within the same poll, and an idle app draws no other.)
+        unseen = start
         while not shown():
             if time.perf_counter() > end:
                 raise TimeoutError(f"{key} was not answered in time")
+            unseen = time.perf_counter()
             await asyncio.sleep(POLL_KEY)
-        seen = time.perf_counter()
-        while self.frame < seen:  # the frame that shows it
+        while self.frame < unseen:  # the frame that shows it
             if time.perf_counter() > end:
                 raise TimeoutError(f"{key}: no frame drawn after it")
             await asyncio.sleep(POLL_KEY)
@@ -227,6 +231,8 @@ def main() -> None:
         print(f"load average at start (1, 5, 15 min): {_load()}")
         strength = None if args.cols <= WIDEST_PLAIN else (WIDEST_PLAIN / args.cols) ** 0.5
         frame, _ = make_extract(args.rows, args.cols, strength=strength)
+        if args.workdir:  # a folder that is not there yet is made, not a traceback
+            Path(args.workdir).mkdir(parents=True, exist_ok=True)
         with tempfile.TemporaryDirectory(dir=args.workdir) as folder:
             path = Path(folder) / f"wide_{args.rows}x{args.cols}.parquet"
             frame.to_parquet(path)

@@ -212,6 +212,8 @@ def _run(args: argparse.Namespace) -> None:
         f"numpy {np.__version__}, engine workers {default_workers()}"
     )
     print(f"load average at start (1, 5, 15 min): {_load()}")
+    if args.workdir:  # a folder that is not there yet is made, not a traceback
+        Path(args.workdir).mkdir(parents=True, exist_ok=True)
     with tempfile.TemporaryDirectory(dir=args.workdir) as folder:
         frame, _ = make_extract(args.rows, args.cols)
         path = Path(folder) / "pump_months.parquet"

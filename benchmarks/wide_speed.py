@@ -224,6 +224,8 @@ def main() -> None:
     args = _parse()
     with recorded("wide_speed", args.results):
         print(f"wide-data benchmark; {os.cpu_count()} cores; shapes {args.shapes}")
+        if args.workdir:  # a folder that is not there yet is made, not a traceback
+            Path(args.workdir).mkdir(parents=True, exist_ok=True)
         with tempfile.TemporaryDirectory(dir=args.workdir) as folder:
             for shape in args.shapes.split(","):
                 rows, cols = (int(v) for v in shape.lower().split("x"))

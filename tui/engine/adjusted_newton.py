@@ -314,7 +314,7 @@ def chord_many(
                     results[j] = (beta[i] + step[i], ll)
         beta = beta + step
         if not going.all():
-            live, beta, step, inverse = live[going], beta[going], step[going], inverse[going]
+            live, beta, inverse = live[going], beta[going], inverse[going]
             low, moved = low[going], moved[going]
             if not live.size:
                 return results
@@ -406,11 +406,16 @@ class ColumnRows:
         """Covariates-only fit plus one Newton step for the first form column alone."""
         beta = np.zeros(self.standard.shape[0] + basis_t.shape[0])
         beta[: self.standard.shape[0]] = self.block.beta
-        first = basis_t[0]
-        info = float(np.square(first * self.base_root).sum())
-        if info > 0:
-            beta[self.standard.shape[0]] = float(first @ self.base_resid) / info
+        beta[self.standard.shape[0]] = self.lone_steps(basis_t[:1])[0]
         return beta
+
+    def lone_steps(self, rows_t: np.ndarray) -> np.ndarray:
+        """For each form row (standardised, rows × data rows), one Newton step from the
+        covariates-only fit for that row alone (0 where it carries no information)."""
+        rooted = rows_t * self.base_root
+        info = np.einsum("ij,ij->i", rooted, rooted)
+        pull = rows_t @ self.base_resid
+        return np.divide(pull, info, out=np.zeros_like(pull), where=info > 0)
 
     def base_hessian(self, basis_t: np.ndarray) -> np.ndarray:
         """The Hessian of intercept + covariates + form at the covariates-only fit."""
@@ -447,22 +452,17 @@ class ColumnRows:
         centre, scale = scaling(cols, self.trials)
         low = (cols - centre[:, None]) / scale[:, None]
         c = self.standard.shape[0]
-        rooted = low * self.base_root
-        info = np.einsum("ij,ij->i", rooted, rooted)
-        pull = low @ self.base_resid
-        first = np.divide(pull, info, out=np.zeros_like(pull), where=info > 0)
+        first = self.lone_steps(low)
         starts = np.zeros((len(bases), c + 1))
         starts[:, :c] = self.block.beta
-        starts[:, c] = first  # as ``start``: one Newton step for the form column alone
+        starts[:, c] = first  # as ``start`` gives each form alone
         etas = self.base_eta + first[:, None] * low
-        side = self.weighted @ rooted.T
-        hessians = []
-        for j in range(len(bases)):  # as ``base_hessian``
-            hessian = np.empty((c + 1, c + 1))
-            hessian[:c, :c] = self.covariate_cross
-            hessian[:c, c] = hessian[c, :c] = side[:, j]
-            hessian[c, c] = info[j]
-            hessians.append(hessian)
+        # Each form's Hessian is the covariate block and that form's row and column of
+        # the Hessian of all of them together (one product over the data rows).
+        every = self.base_hessian(low)
+        hessians = [
+            every[np.ix_(own, own)] for own in (np.r_[:c, c + j] for j in range(len(bases)))
+        ]
         trials = None if self.block.unit else self.trials
         steps = chord_many(self.standard, low, hessians, self.events, trials, starts, etas)
         return [

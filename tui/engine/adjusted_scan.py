@@ -277,14 +277,14 @@ class _Column:
         """The power with the highest likelihood (first wins ties), as ``forms.search``.
         The powers not served by the linear and log fits are fitted together."""
         shift = learn_shift(self.counts)
+        recodings = {p: Recoding(Fp1Candidate.form, {"power": p, "shift": shift}) for p in POWERS}
         fits: dict[float, LogisticFit] = {}
         bases: dict[float, np.ndarray] = {}
-        for power in POWERS:
+        for power, recoding in recodings.items():
             reused = self._fp1_reused(power, shift)
             if reused is not None:
                 fits[power] = reused
                 continue
-            recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
             basis = _basis(recoding, self.rows.x)
             if np.all(np.isfinite(basis)):  # else the power is left out, as a failed fit
                 bases[power] = basis
@@ -297,10 +297,9 @@ class _Column:
             if power not in fits:
                 continue
             fit = fits[power]
-            recoding = Recoding(Fp1Candidate.form, {"power": power, "shift": shift})
             key = (fit.ok, fit.llf)
             if best is None or key[0] > best[0] or (key[0] == best[0] and key[1] > best[1] + 1e-9):
-                best = (fit.ok, fit.llf, recoding, fit)
+                best = (fit.ok, fit.llf, recodings[power], fit)
         if best is None:
             raise RecodingError("no member of the search could be fitted")
         return Learned(best[2], searched=True), best[3]

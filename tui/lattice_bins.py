@@ -19,6 +19,8 @@ CELLS = 1 << 18
 """Cells of the lattice: a 262,144th of the range each."""
 GRID_STEPS = 2000
 """A cell holding more than rows / GRID_STEPS rows (a quantile step) is read value by value."""
+HASH_SLOTS_MAX = 1 << 23
+"""Slots of the linear-counting bitmap behind an estimated distinct count, at most."""
 SPREAD_CELLS = 4000
 """A cell must be no wider than this share of the distance between the 5th and 95th
 percentiles; else (very long tails) the lattice is too coarse and the column is sorted."""
@@ -197,3 +199,30 @@ def _sorted_row(
     read = is_value[k]
     out[read] = out_x[k[read]]
     return out
+
+
+def hash_power(n: int) -> int:
+    """log2 of the linear-counting slots for ``n`` values: about one slot a value."""
+    return min(int(np.log2(HASH_SLOTS_MAX)), max(10, int(np.ceil(np.log2(max(n, 2))))))
+
+
+def hash_slots(x: np.ndarray, power: int) -> np.ndarray:
+    """The slot of each value: the top ``power`` bits of MurmurHash3's 64-bit finaliser
+    (fmix64) of its bits."""
+    z = (x + 0.0).view(np.uint64)  # + 0.0: -0.0 and 0.0 are one value (and a copy)
+    z ^= z >> np.uint64(33)
+    z *= np.uint64(0xFF51AFD7ED558CCD)
+    z ^= z >> np.uint64(33)
+    z *= np.uint64(0xC4CEB9FE1A85EC53)
+    z >>= np.uint64(64 - power)  # fmix64's last xor-shift leaves these top bits as they are
+    return z.view(np.intp)
+
+
+def linear_count(empty: int, power: int, rows: int, at_least: int) -> int:
+    """Distinct values by linear counting (Whang, Vander-Zanden & Taylor 1990, ACM TODS
+    15(2)) from the ``empty`` slots of ``2**power``; at least ``at_least``, at most ``rows``."""
+    slots = 1 << power
+    if empty == 0:
+        return rows
+    estimate = -slots * np.log(empty / slots)
+    return int(min(rows, max(at_least, round(estimate))))

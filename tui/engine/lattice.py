@@ -44,7 +44,6 @@ __all__ = ["CELLS", "LATTICE_ROWS", "LatticeCounts", "lattice_counts"]
 
 LATTICE_ROWS = 200_000
 """From this many rows the lattice replaces the sort (below it, sorting costs a few ms)."""
-_HASH_SLOTS_MAX = 1 << 23
 
 
 @dataclass(frozen=True)
@@ -139,19 +138,8 @@ def _read(
 
 
 def _distinct_estimate(x: np.ndarray, at_least: int) -> int:
-    """Distinct values by linear counting over MurmurHash3's 64-bit finaliser (fmix64) of
-    each value's bits; at least ``at_least`` (the occupied cells), at most the rows."""
-    n = x.size
-    power = min(int(np.log2(_HASH_SLOTS_MAX)), max(10, int(np.ceil(np.log2(max(n, 2))))))
-    slots = 1 << power
-    z = (x + 0.0).view(np.uint64)  # + 0.0: -0.0 and 0.0 are one value (and a copy)
-    z ^= z >> np.uint64(33)
-    z *= np.uint64(0xFF51AFD7ED558CCD)
-    z ^= z >> np.uint64(33)
-    z *= np.uint64(0xC4CEB9FE1A85EC53)
-    z >>= np.uint64(64 - power)  # fmix64's last xor-shift leaves these top bits as they are
-    empty = slots - np.count_nonzero(np.bincount(z.view(np.intp), minlength=slots))
-    if empty == 0:
-        return n
-    estimate = -slots * np.log(empty / slots)
-    return int(min(n, max(at_least, round(estimate))))
+    """Distinct values by linear counting over a 64-bit hash of each value
+    (``lattice_bins.linear_count``); at least ``at_least`` (the occupied cells)."""
+    power = LB.hash_power(x.size)
+    slots = np.bincount(LB.hash_slots(x, power), minlength=1 << power)
+    return LB.linear_count((1 << power) - np.count_nonzero(slots), power, x.size, at_least)
